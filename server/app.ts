@@ -1,0 +1,68 @@
+import express, { type Express } from 'express';
+import session from 'express-session';
+import connectPgSimple from 'connect-pg-simple';
+import helmet from 'helmet';
+import cookieParser from 'cookie-parser';
+import { existsSync } from 'node:fs';
+import { join } from 'node:path';
+import type pg from 'pg';
+import type { Config } from './config';
+import type { Db } from './db/client';
+import { createCsrf } from './middleware/csrf';
+import { loadUser } from './middleware/auth';
+import { apiNotFound, errorHandler } from './middleware/errors';
+import { authRoutes } from './routes/auth';
+import { healthRoutes } from './routes/health';
+import { customerRoutes } from './routes/customers';
+import { jobRoutes } from './routes/jobs';
+
+export interface AppDeps {
+  config: Config;
+  db: Db;
+  pool: pg.Pool;
+}
+
+export const SESSION_COOKIE = 'qp.sid';
+const SESSION_HOURS = 12;
+
+export function createApp({ config, db, pool }: AppDeps): Express {
+  const app = express();
+  app.disable('x-powered-by');
+  app.set('trust proxy', 'loopback');
+  app.use(helmet({ contentSecurityPolicy: { directives: { 'img-src': ["'self'", 'data:', 'blob:'] } } }));
+
+  app.use(cookieParser());
+  const PgStore = connectPgSimple(session);
+  app.use(
+    session({
+      name: SESSION_COOKIE,
+      secret: config.SESSION_SECRET,
+      store: new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 600 }),
+      resave: false,
+      saveUninitialized: false,
+      rolling: true,
+      cookie: { httpOnly: true, sameSite: 'lax', secure: config.COOKIE_SECURE, maxAge: SESSION_HOURS * 3600_000 },
+    }),
+  );
+
+  const csrf = createCsrf(config.SESSION_SECRET, config.COOKIE_SECURE);
+  const api = express.Router();
+  api.use(express.json({ limit: '1mb' }));
+  api.use('/health', healthRoutes(db));
+  api.use(csrf.doubleCsrfProtection);
+  api.use(loadUser(db));
+  api.use('/auth', authRoutes(db, csrf));
+  api.use(customerRoutes(db));
+  api.use(jobRoutes(db));
+  api.use(apiNotFound);
+  app.use('/api', api);
+
+  if (config.WEB_DIST && existsSync(join(config.WEB_DIST, 'index.html'))) {
+    const dist = config.WEB_DIST;
+    app.use(express.static(dist, { index: false, maxAge: '1h' }));
+    // The web app routes on the client: any other GET gets its page.
+    app.get(/^(?!\/api\/).*/, (_req, res) => res.sendFile(join(dist, 'index.html')));
+  }
+  app.use(errorHandler);
+  return app;
+}

@@ -1,0 +1,67 @@
+import { pgTable, pgEnum, integer, text, timestamp, doublePrecision, index } from 'drizzle-orm/pg-core';
+import { UNIT_KINDS } from '../../../shared/customers';
+import { shops } from './shop';
+
+export const unitKindEnum = pgEnum('unit_kind', UNIT_KINDS);
+
+export const customers = pgTable(
+  'customers',
+  {
+    id: integer().primaryKey().generatedAlwaysAsIdentity(),
+    shopId: integer().notNull().references(() => shops.id),
+    name: text().notNull(),
+    email: text().notNull().default(''),
+    phone: text().notNull().default(''),
+    address: text().notNull().default(''),
+    notes: text().notNull().default(''),
+    createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index('customers_shop_idx').on(t.shopId)],
+);
+
+export const units = pgTable(
+  'units',
+  {
+    id: integer().primaryKey().generatedAlwaysAsIdentity(),
+    shopId: integer().notNull().references(() => shops.id),
+    customerId: integer().notNull().references(() => customers.id),
+    kind: unitKindEnum().notNull(),
+    maker: text().notNull(),
+    model: text().notNull(),
+    serial: text().notNull().default(''),
+    notes: text().notNull().default(''),
+    createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index('units_shop_idx').on(t.shopId), index('units_customer_idx').on(t.customerId)],
+);
+
+/** Published figures for one maker and model, each with where it came from. */
+export const specSheets = pgTable(
+  'spec_sheets',
+  {
+    id: integer().primaryKey().generatedAlwaysAsIdentity(),
+    shopId: integer().notNull().references(() => shops.id),
+    maker: text().notNull(),
+    model: text().notNull(),
+    notes: text().notNull().default(''),
+    createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index('spec_sheets_shop_idx').on(t.shopId)],
+);
+
+export const specFigures = pgTable(
+  'spec_figures',
+  {
+    id: integer().primaryKey().generatedAlwaysAsIdentity(),
+    shopId: integer().notNull().references(() => shops.id),
+    specSheetId: integer()
+      .notNull()
+      .references(() => specSheets.id, { onDelete: 'cascade' }),
+    /** One of shared/specs.ts SPEC_METRICS. */
+    metric: text().notNull(),
+    value: doublePrecision().notNull(),
+    condition: text().notNull().default(''),
+    source: text().notNull().default(''),
+  },
+  (t) => [index('spec_figures_sheet_idx').on(t.specSheetId)],
+);

@@ -1,0 +1,4 @@
+export * from './shop';
+export * from './customers';
+export * from './jobs';
+export * from './bench';

@@ -1,0 +1,17 @@
+import type { Role } from '@shared/roles';
+
+export interface NavItem {
+  label: string;
+  icon: string;
+  to: string;
+  roles: Role[];
+}
+
+/** What each role finds in the side rail; the server checks the same roles on every route. */
+export const NAV_ITEMS: NavItem[] = [
+  { label: 'Jobs', icon: 'pi pi-wrench', to: '/jobs', roles: ['owner', 'technician', 'front_desk'] },
+  { label: 'My repairs', icon: 'pi pi-box', to: '/jobs', roles: ['customer'] },
+  { label: 'Customers', icon: 'pi pi-users', to: '/customers', roles: ['owner', 'front_desk', 'technician'] },
+];
+
+export const navFor = (role: Role | null) => (role ? NAV_ITEMS.filter((i) => i.roles.includes(role)) : []);

@@ -1,0 +1,21 @@
+import { createApp } from 'vue';
+import { createPinia } from 'pinia';
+import PrimeVue from 'primevue/config';
+import ToastService from 'primevue/toastservice';
+import ConfirmationService from 'primevue/confirmationservice';
+import '@fontsource/source-sans-3/400.css';
+import '@fontsource/source-sans-3/600.css';
+import '@fontsource/jetbrains-mono/400.css';
+import 'primeicons/primeicons.css';
+import './styles.css';
+import App from './App.vue';
+import { router } from './router';
+import { QuietpathPreset } from './theme';
+
+const app = createApp(App);
+app.use(createPinia());
+app.use(router);
+app.use(PrimeVue, { theme: { preset: QuietpathPreset, options: { darkModeSelector: '.qp-dark' } } });
+app.use(ToastService);
+app.use(ConfirmationService);
+app.mount('#app');
