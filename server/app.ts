@@ -15,6 +15,7 @@ import { authRoutes } from './routes/auth';
 import { healthRoutes } from './routes/health';
 import { customerRoutes } from './routes/customers';
 import { jobRoutes } from './routes/jobs';
+import { userRoutes } from './routes/users';
 
 export interface AppDeps {
   config: Config;
@@ -54,6 +55,7 @@ export function createApp({ config, db, pool }: AppDeps): Express {
   api.use('/auth', authRoutes(db, csrf));
   api.use(customerRoutes(db));
   api.use(jobRoutes(db));
+  api.use(userRoutes(db));
   api.use(apiNotFound);
   app.use('/api', api);
 

@@ -12,6 +12,8 @@ export const NAV_ITEMS: NavItem[] = [
   { label: 'Jobs', icon: 'pi pi-wrench', to: '/jobs', roles: ['owner', 'technician', 'front_desk'] },
   { label: 'My repairs', icon: 'pi pi-box', to: '/jobs', roles: ['customer'] },
   { label: 'Customers', icon: 'pi pi-users', to: '/customers', roles: ['owner', 'front_desk', 'technician'] },
+  { label: 'People', icon: 'pi pi-id-card', to: '/people', roles: ['owner'] },
+  { label: 'My account', icon: 'pi pi-user', to: '/account', roles: ['owner', 'technician', 'front_desk', 'customer'] },
 ];
 
 export const navFor = (role: Role | null) => (role ? NAV_ITEMS.filter((i) => i.roles.includes(role)) : []);

@@ -19,6 +19,8 @@ const routes: RouteRecordRaw[] = [
     children: [
       { path: '', name: 'home', redirect: () => ({ name: 'jobs.list' }) },
       { path: 'jobs', name: 'jobs.list', component: () => import('@/views/jobs/JobListView.vue'), meta: { title: 'Jobs' } },
+      { path: 'people', name: 'people.list', component: () => import('@/views/people/PeopleView.vue'), meta: { roles: ['owner'], title: 'People' } },
+      { path: 'account', name: 'account', component: () => import('@/views/account/AccountView.vue'), meta: { title: 'My account' } },
       {
         path: 'customers',
         name: 'customers.list',
