@@ -1,4 +1,5 @@
 import type { Server } from 'node:http';
+import type { Express } from 'express';
 import { loadConfig, type Config } from './config';
 import { createDb } from './db/client';
 import { runMigrations } from './db/migrate';
@@ -6,6 +7,7 @@ import { createApp } from './app';
 
 export interface RunningServer {
   url: string;
+  app: Express;
   close(): Promise<void>;
 }
 
@@ -22,6 +24,7 @@ export async function startServer(env: Record<string, string | undefined> = proc
   const port = typeof address === 'object' && address ? address.port : config.PORT;
   return {
     url: `http://${config.HOST}:${port}`,
+    app,
     close: async () => {
       await new Promise<void>((resolve) => server.close(() => resolve()));
       server.closeAllConnections();

@@ -1,5 +1,5 @@
 import type { RequestHandler } from 'express';
-import type { Role } from '../../shared/roles';
+import { ROLES, type Role } from '../../shared/roles';
 import type { Db } from '../db/client';
 import { HttpError } from '../http-error';
 import { loadSessionUser } from '../services/auth';
@@ -17,21 +17,23 @@ export function loadUser(db: Db): RequestHandler {
   };
 }
 
+/** A role check that also tells the route catalogue which roles it lets through. */
+export type RoleGate = RequestHandler & { allowedRoles: readonly Role[] };
+
 /** Allows only the given roles; anonymous gets 401, a signed-in user of another role 403. */
-export function requireRole(...roles: Role[]): RequestHandler {
-  return (req, _res, next) => {
+export function requireRole(...roles: Role[]): RoleGate {
+  const gate: RequestHandler = (req, _res, next) => {
     if (!req.user) return next(new HttpError(401, 'Sign in first', 'unauthenticated'));
     if (!roles.includes(req.user.role)) {
       return next(new HttpError(403, 'Your role does not allow this', 'forbidden'));
     }
     next();
   };
+  return Object.assign(gate, { allowedRoles: roles });
 }
 
-export const requireSignedIn: RequestHandler = (req, _res, next) => {
-  if (!req.user) return next(new HttpError(401, 'Sign in first', 'unauthenticated'));
-  next();
-};
+/** Any signed-in role; what each may see is then narrowed by the service (e.g. a customer's own rows). */
+export const requireSignedIn: RoleGate = requireRole(...ROLES);
 
 /** The signed-in user, for handlers behind requireRole/requireSignedIn. */
 export function currentUser(req: Parameters<RequestHandler>[0]) {
