@@ -77,9 +77,9 @@ export class ApiClient {
   }
 }
 
-export async function signedIn(baseUrl: string, email: string): Promise<ApiClient> {
+export async function signedIn(baseUrl: string, email: string, password = DEMO_PASSWORD): Promise<ApiClient> {
   const c = new ApiClient(baseUrl);
-  const res = await c.login(email);
+  const res = await c.login(email, password);
   if (res.status !== 200) throw new Error(`sign-in as ${email} failed: ${res.status} ${JSON.stringify(res.body)}`);
   return c;
 }
