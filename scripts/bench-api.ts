@@ -1,0 +1,156 @@
+/**
+ * `npm run bench:api`: load figures for the API on this machine, against a throwaway cluster with
+ * the demo data (or BENCH_URL for a server already running with the demo data).
+ *  1. 50 concurrent clients on the job list and on a job's detail route (autocannon): requests/s,
+ *     p50 and p99 latency; target p99 < 100 ms.
+ *  2. 10 concurrent 50 MB WAV uploads, then the time until all are analysed.
+ */
+import { execFile, execFileSync } from 'node:child_process';
+import { promisify } from 'node:util';
+import { existsSync, mkdirSync, openAsBlob, rmSync, statSync } from 'node:fs';
+import { join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { startCluster } from './lib/pg-cluster';
+import { createDb } from '../server/db/client';
+import { runMigrations } from '../server/db/migrate';
+import { seedDemo } from '../server/db/seed';
+import { startServer } from '../server/main';
+
+const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
+const work = join(root, 'bench-data');
+const P99_TARGET_MS = 100;
+
+async function signIn(base: string, email: string) {
+  const jar: string[] = [];
+  const keep = (res: Response) => {
+    for (const c of res.headers.getSetCookie()) {
+      const pair = c.split(';')[0]!;
+      const name = pair.split('=')[0]!;
+      const i = jar.findIndex((x) => x.startsWith(`${name}=`));
+      if (i >= 0) jar.splice(i, 1);
+      jar.push(pair);
+    }
+  };
+  const first = await fetch(`${base}/api/auth/csrf`);
+  keep(first);
+  const { csrfToken } = (await first.json()) as { csrfToken: string };
+  const res = await fetch(`${base}/api/auth/login`, {
+    method: 'POST',
+    headers: { 'content-type': 'application/json', 'x-csrf-token': csrfToken, cookie: jar.join('; ') },
+    body: JSON.stringify({ email, password: 'bench-demo-2026' }),
+  });
+  if (!res.ok) throw new Error(`sign-in failed: ${res.status}`);
+  keep(res);
+  const body = (await res.json()) as { csrfToken: string };
+  return { cookie: jar.join('; '), csrf: body.csrfToken };
+}
+
+interface CannonResult {
+  requests: { average: number };
+  latency: { p50: number; p99: number };
+  errors: number;
+  non2xx: number;
+}
+
+/** autocannon runs in its own process, so the load generator does not share the server's thread. */
+async function load(url: string, cookie: string) {
+  const cli = join(root, 'node_modules', 'autocannon', 'autocannon.js');
+  const { stdout: out } = await promisify(execFile)(process.execPath, [cli, '--json', '-c', '50', '-d', '10', '-H', `cookie=${cookie}`, url], {
+    encoding: 'utf8',
+    maxBuffer: 64 * 1024 * 1024,
+  });
+  const result = JSON.parse(out) as CannonResult;
+  return {
+    route: new URL(url).pathname,
+    requestsPerS: Math.round(result.requests.average),
+    p50Ms: result.latency.p50,
+    p99Ms: result.latency.p99,
+    errors: result.errors + result.non2xx,
+  };
+}
+
+function bigWav(file: string) {
+  // 48 kHz, 24-bit stereo is 288 000 bytes/s: 174 s makes a 50 MB capture.
+  if (existsSync(file) && statSync(file).size > 49_000_000) return;
+  execFileSync('sox', ['-n', '-r', '48000', '-b', '24', '-c', '2', file, 'synth', '174', 'sine', '997', 'vol', '0.3']);
+}
+
+async function uploads(base: string, auth: { cookie: string; csrf: string }, jobId: number) {
+  const file = join(work, 'upload-50mb.wav');
+  bigWav(file);
+  const sizeMb = statSync(file).size / 1e6;
+  const started = performance.now();
+  const ids: number[] = [];
+  await Promise.all(
+    Array.from({ length: 10 }, async (_, i) => {
+      const form = new FormData();
+      form.append('meta', JSON.stringify([{ phase: 'before', stimulus: 'tone', testPointId: null, drivenChannel: null }]));
+      form.append('files', await openAsBlob(file), `load-${i}.wav`);
+      const res = await fetch(`${base}/api/jobs/${jobId}/captures`, {
+        method: 'POST',
+        headers: { cookie: auth.cookie, 'x-csrf-token': auth.csrf },
+        body: form,
+      });
+      if (!res.ok) throw new Error(`upload ${i} failed: ${res.status} ${await res.text()}`);
+      const body = (await res.json()) as { id: number }[] | { captures: { id: number }[] };
+      const list = Array.isArray(body) ? body : body.captures;
+      ids.push(...list.map((c) => c.id));
+    }),
+  );
+  const uploadedS = (performance.now() - started) / 1000;
+  for (;;) {
+    const res = await fetch(`${base}/api/jobs/${jobId}/captures`, { headers: { cookie: auth.cookie } });
+    const list = (await res.json()) as { id: number; state: string }[];
+    const mine = list.filter((c) => ids.includes(c.id));
+    if (mine.some((c) => c.state === 'failed')) throw new Error('an analysis failed');
+    if (mine.length === ids.length && mine.every((c) => c.state === 'done')) break;
+    if ((performance.now() - started) / 1000 > 900) throw new Error('analyses did not finish within 15 minutes');
+    await new Promise((r) => setTimeout(r, 1000));
+  }
+  return { files: 10, sizeMb: Number(sizeMb.toFixed(1)), uploadedS: Number(uploadedS.toFixed(1)), analysedS: Number(((performance.now() - started) / 1000).toFixed(1)) };
+}
+
+async function main() {
+  mkdirSync(work, { recursive: true });
+  let base = process.env.BENCH_URL;
+  let stop = async () => {};
+  if (!base) {
+    const dataDir = join(work, 'api-cluster');
+    rmSync(dataDir, { recursive: true, force: true });
+    const cluster = await startCluster({ dataDir, port: 54349, database: 'quietpath_bench', log: () => {} });
+    const { db, pool } = createDb(cluster.url);
+    await runMigrations(db);
+    await seedDemo(db);
+    await pool.end();
+    const server = await startServer({
+      DATABASE_URL: cluster.url,
+      PORT: '0',
+      SESSION_SECRET: 'bench-secret-bench-secret-bench-secret',
+      FILES_DIR: join(dataDir, 'files'),
+    });
+    base = server.url;
+    stop = async () => {
+      await server.close();
+      cluster.stop();
+      rmSync(dataDir, { recursive: true, force: true });
+    };
+  }
+  try {
+    const auth = await signIn(base, 'tech@quietpath.test');
+    const rows = [await load(`${base}/api/jobs`, auth.cookie), await load(`${base}/api/jobs/1`, auth.cookie)];
+    console.table(rows);
+    for (const r of rows) {
+      console.log(`${r.route}: p99 ${r.p99Ms} ms — ${r.p99Ms < P99_TARGET_MS ? 'within' : 'OVER'} the ${P99_TARGET_MS} ms target`);
+    }
+    if (process.argv.includes('--skip-uploads')) return;
+    console.log('10 concurrent 50 MB uploads…');
+    console.table([await uploads(base, auth, 1)]);
+  } finally {
+    await stop();
+  }
+}
+
+main().catch((err) => {
+  console.error(err instanceof Error ? err.message : err);
+  process.exit(1);
+});
