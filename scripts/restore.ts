@@ -13,7 +13,7 @@ const from = process.argv[2] ? resolve(process.argv[2]) : newestBackup(join(root
 try {
   if (!from) throw new Error('no backup found in backups/; name a folder: npm run restore -- FOLDER');
   const cluster = await startCluster({ dataDir: join(root, '.data', 'postgres'), port: 54329, database: 'quietpath', log: () => {} });
-  restore({ databaseUrl: cluster.url, filesDir: join(root, '.data', 'files') }, from);
+  await restore({ databaseUrl: cluster.url, filesDir: join(root, '.data', 'files') }, from);
   console.log(`Restored ${from}`);
 } catch (err) {
   console.error(`Restore failed: ${err instanceof Error ? err.message : String(err)}`);

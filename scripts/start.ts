@@ -10,6 +10,8 @@ import { ensureWebBuild } from './lib/web-build';
 import { createDb } from '../server/db/client';
 import { runMigrations } from '../server/db/migrate';
 import { seedDemo, DEMO_USERS, DEMO_PASSWORD } from '../server/db/seed';
+import { benchDemo } from '../server/db/seed-bench';
+import { seedCaptures } from '../server/db/seed-captures';
 import { startServer } from '../server/main';
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
@@ -20,7 +22,8 @@ async function main() {
   const cluster = await startCluster({ dataDir: join(dataDir, 'postgres'), port: PG_PORT, database: 'quietpath' });
   const { db, pool } = createDb(cluster.url);
   await runMigrations(db);
-  const seeded = await seedDemo(db);
+  const filesDir = process.env.FILES_DIR ?? join(dataDir, 'files');
+  const seeded = await seedDemo(db, [benchDemo, seedCaptures(filesDir)]);
   await pool.end();
   const webDist = ensureWebBuild(root);
 
@@ -30,12 +33,15 @@ async function main() {
     HOST: process.env.HOST ?? '127.0.0.1',
     PORT: process.env.PORT ?? '3000',
     SESSION_SECRET: process.env.SESSION_SECRET ?? persistentSecret(join(dataDir, 'session-secret')),
-    FILES_DIR: process.env.FILES_DIR ?? join(dataDir, 'files'),
+    FILES_DIR: filesDir,
     WEB_DIST: webDist,
   });
 
   console.log(`\nQuietpath is running at ${server.url}/`);
   console.log(seeded ? 'Demo data was created.' : 'Using the existing data in .data/.');
+  console.log(`Outbox (every e-mail sent, with attachments): ${server.url}/outbox`);
+  if (!process.env.SMTP_URL) console.log('  E-mail is delivered to a built-in local mailbox; nothing leaves this machine.');
+  if (!process.env.STRIPE_SECRET_KEY) console.log('  Payments use a built-in test payment service; no money moves.');
   console.log(`Demo sign-ins (password for all: ${DEMO_PASSWORD}; demo only):`);
   for (const u of DEMO_USERS) console.log(`  ${u.role.padEnd(11)} ${u.email}`);
   console.log('Press Ctrl+C to stop; PostgreSQL is stopped with it.\n');

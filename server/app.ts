@@ -15,18 +15,32 @@ import { authRoutes } from './routes/auth';
 import { healthRoutes } from './routes/health';
 import { customerRoutes } from './routes/customers';
 import { jobRoutes } from './routes/jobs';
+import { testPointRoutes } from './routes/test-points';
+import { repairLogRoutes } from './routes/repair-log';
+import { specSheetRoutes } from './routes/spec-sheets';
 import { userRoutes } from './routes/users';
+import { captureRoutes } from './routes/captures';
+import { measurementRoutes } from './routes/measurements';
+import { calibrationRoutes } from './routes/calibrations';
+import { recordingRoutes, signalRoutes } from './routes/recordings';
+import type { AnalysisQueue } from './services/analysis-queue';
+import type { BillingRuntime } from './billing-runtime';
+import { billingRoutes, paymentWebhookRoutes } from './routes/payments';
 
 export interface AppDeps {
   config: Config;
   db: Db;
   pool: pg.Pool;
+  /** The capture-analysis queue that uploads add their jobs to. */
+  queue: AnalysisQueue;
+  /** Mail and payment clients (real, or the local stand-ins). */
+  billing: BillingRuntime;
 }
 
 export const SESSION_COOKIE = 'qp.sid';
 const SESSION_HOURS = 12;
 
-export function createApp({ config, db, pool }: AppDeps): Express {
+export function createApp({ config, db, pool, queue, billing }: AppDeps): Express {
   const app = express();
   app.disable('x-powered-by');
   app.set('trust proxy', 'loopback');
@@ -46,6 +60,8 @@ export function createApp({ config, db, pool }: AppDeps): Express {
     }),
   );
 
+  // Before the API router: the webhook needs its raw body and is exempt from CSRF (see the route).
+  app.use(paymentWebhookRoutes(db, billing));
   const csrf = createCsrf(config.SESSION_SECRET, config.COOKIE_SECURE);
   const api = express.Router();
   api.use(express.json({ limit: '1mb' }));
@@ -55,7 +71,16 @@ export function createApp({ config, db, pool }: AppDeps): Express {
   api.use('/auth', authRoutes(db, csrf));
   api.use(customerRoutes(db));
   api.use(jobRoutes(db));
+  api.use(testPointRoutes(db));
+  api.use(repairLogRoutes(db));
+  api.use(specSheetRoutes(db));
   api.use(userRoutes(db));
+  api.use(captureRoutes(db, config, queue));
+  api.use(measurementRoutes(db));
+  api.use(calibrationRoutes(db));
+  api.use(recordingRoutes(db, config, queue));
+  api.use(signalRoutes());
+  api.use(billingRoutes(db, billing));
   api.use(apiNotFound);
   app.use('/api', api);
 

@@ -4,6 +4,9 @@ import { loadConfig, type Config } from './config';
 import { createDb } from './db/client';
 import { runMigrations } from './db/migrate';
 import { createApp } from './app';
+import { startBilling } from './billing-runtime';
+import { startAnalysisQueue } from './services/analysis-queue';
+import { startAnalysisWorker } from './worker/analysis-worker';
 
 export interface RunningServer {
   url: string;
@@ -16,18 +19,25 @@ export async function startServer(env: Record<string, string | undefined> = proc
   const config: Config = loadConfig(env);
   const { pool, db } = createDb(config.DATABASE_URL);
   await runMigrations(db);
-  const app = createApp({ config, db, pool });
+  const queue = await startAnalysisQueue(config.DATABASE_URL);
+  const worker = config.WORKER === 'on' ? await startAnalysisWorker({ queue, db, filesDir: config.FILES_DIR }) : null;
+  const billing = await startBilling(config, db);
+  const app = createApp({ config, db, pool, queue, billing });
   const server: Server = await new Promise((resolve) => {
     const s = app.listen(config.PORT, config.HOST, () => resolve(s));
   });
   const address = server.address();
   const port = typeof address === 'object' && address ? address.port : config.PORT;
+  billing.attach(`http://${config.HOST}:${port}`);
   return {
     url: `http://${config.HOST}:${port}`,
     app,
     close: async () => {
       await new Promise<void>((resolve) => server.close(() => resolve()));
       server.closeAllConnections();
+      await worker?.stop();
+      await queue.stop();
+      await billing.close();
       await pool.end();
     },
   };

@@ -5,6 +5,7 @@
 import { spawnSync } from 'node:child_process';
 import { cpSync, existsSync, mkdirSync, readdirSync, rmSync, writeFileSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
+import pg from 'pg';
 import { ensurePostgresBinaries } from './pg-cluster';
 
 interface Target {
@@ -36,16 +37,34 @@ export function backup(target: Target, outDir: string): string {
   return outDir;
 }
 
-export function restore(target: Target, fromDir: string): void {
+/** Replaces the database with an empty one (ending any open connections), so a restore is exact. */
+async function recreateDatabase(databaseUrl: string): Promise<void> {
+  const url = new URL(databaseUrl);
+  const name = decodeURIComponent(url.pathname.slice(1));
+  url.pathname = '/postgres';
+  const admin = new pg.Client({ connectionString: url.toString() });
+  await admin.connect();
+  try {
+    const quoted = `"${name.replace(/"/g, '""')}"`;
+    await admin.query(`drop database if exists ${quoted} with (force)`);
+    await admin.query(`create database ${quoted}`);
+  } finally {
+    await admin.end();
+  }
+}
+
+export async function restore(target: Target, fromDir: string): Promise<void> {
   const manifest = join(fromDir, 'backup.json');
   if (!existsSync(manifest) || !existsSync(join(fromDir, 'database.dump'))) {
     throw new Error(`${fromDir} is not a Quietpath backup (backup.json or database.dump missing)`);
   }
   JSON.parse(readFileSync(manifest, 'utf8'));
-  // --single-transaction: a restore that fails part-way leaves the database as it was.
+  // Check the dump is readable before anything is dropped.
+  pgTool('pg_restore', ['--list', join(fromDir, 'database.dump')], target.databaseUrl);
+  await recreateDatabase(target.databaseUrl);
   pgTool(
     'pg_restore',
-    ['--clean', '--if-exists', '--no-owner', '--single-transaction', '--dbname', new URL(target.databaseUrl).pathname.slice(1), join(fromDir, 'database.dump')],
+    ['--no-owner', '--exit-on-error', '--single-transaction', '--dbname', new URL(target.databaseUrl).pathname.slice(1), join(fromDir, 'database.dump')],
     target.databaseUrl,
   );
   const staged = `${target.filesDir}.restoring`;

@@ -6,8 +6,8 @@ import { testDb } from '../support/server';
 import { backup, restore } from '../../scripts/lib/backup';
 import { customers, shops } from '../../server/db/schema/index';
 
-const { db, close } = testDb();
-afterAll(close);
+let { db, close } = testDb();
+afterAll(() => close());
 
 let dir: string;
 beforeAll(() => {
@@ -30,7 +30,10 @@ describe('backup and restore round trip (pg_dump / pg_restore)', () => {
     writeFileSync(join(filesDir, 'ab', 'kept.wav'), 'changed');
     writeFileSync(join(filesDir, 'ab', 'later.wav'), 'later');
 
-    restore({ databaseUrl: inject('databaseUrl'), filesDir }, join(dir, 'snapshot'));
+    // The restore replaces the database, ending open connections: reconnect afterwards.
+    await close();
+    await restore({ databaseUrl: inject('databaseUrl'), filesDir }, join(dir, 'snapshot'));
+    ({ db, close } = testDb());
 
     const back = await db.select().from(customers).where(eq(customers.id, kept!.id));
     expect(back[0]?.name).toBe('Backed-up Customer');
@@ -39,8 +42,8 @@ describe('backup and restore round trip (pg_dump / pg_restore)', () => {
     expect(readdirSync(join(filesDir, 'ab'))).toEqual(['kept.wav']);
   });
 
-  it('refuses a folder that is not a backup', () => {
+  it('refuses a folder that is not a backup', async () => {
     const empty = mkdtempSync(join(dir, 'not-a-backup-'));
-    expect(() => restore({ databaseUrl: inject('databaseUrl'), filesDir: join(dir, 'x') }, empty)).toThrow(/not a Quietpath backup/);
+    await expect(restore({ databaseUrl: inject('databaseUrl'), filesDir: join(dir, 'x') }, empty)).rejects.toThrow(/not a Quietpath backup/);
   });
 });

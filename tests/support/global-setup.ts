@@ -11,11 +11,15 @@ import { startCluster, type Cluster } from '../../scripts/lib/pg-cluster';
 import { createDb } from '../../server/db/client';
 import { runMigrations } from '../../server/db/migrate';
 import { seedDemo } from '../../server/db/seed';
+import { benchDemo } from '../../server/db/seed-bench';
+import { seedCaptures } from '../../server/db/seed-captures';
 
 declare module 'vitest' {
   export interface ProvidedContext {
     databaseUrl: string;
     scratchDir: string;
+    /** Stored files shared by every test server, so any worker can read any capture. */
+    filesDir: string;
   }
 }
 
@@ -42,10 +46,12 @@ export async function setup(project: TestProject) {
   cluster = await startCluster({ dataDir: join(dir, 'postgres'), port: await freePort(), database: 'quietpath_test', log: () => {} });
   const { db, pool } = createDb(cluster.url);
   await runMigrations(db);
-  await seedDemo(db);
+  const filesDir = join(dir, 'files');
+  await seedDemo(db, [benchDemo, seedCaptures(filesDir)]);
   await pool.end();
   project.provide('databaseUrl', cluster.url);
   project.provide('scratchDir', dir);
+  project.provide('filesDir', filesDir);
 }
 
 export async function teardown() {

@@ -1,18 +1,17 @@
 import { inject } from 'vitest';
-import { mkdtempSync } from 'node:fs';
-import { join } from 'node:path';
 import { startServer, type RunningServer } from '../../server/main';
 import { createDb, type Db } from '../../server/db/client';
 
 /** A real server on a free port against the run's throwaway database. */
 export async function startTestServer(extraEnv: Record<string, string> = {}): Promise<RunningServer> {
-  const scratch = inject('scratchDir');
   return startServer({
     DATABASE_URL: inject('databaseUrl'),
     HOST: '127.0.0.1',
     PORT: '0',
     SESSION_SECRET: 'test-secret-of-sufficient-length-0123456789',
-    FILES_DIR: mkdtempSync(join(scratch, 'files-')),
+    // One files folder for every test server: the analysis worker of whichever server is running
+    // must find the files of captures queued by another (and the seeded demo captures).
+    FILES_DIR: inject('filesDir'),
     NODE_ENV: 'test',
     ...extraEnv,
   });

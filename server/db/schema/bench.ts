@@ -83,6 +83,8 @@ export const analyses = pgTable(
     separationDb: doublePrecision(),
     clickCount: integer(),
     humDbfs: doublePrecision(),
+    /** shared/capture-figures.ts CaptureFigures, so lists need not load the full result. */
+    figures: jsonb(),
     result: jsonb().notNull(),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },

@@ -2,3 +2,5 @@ export * from './shop';
 export * from './customers';
 export * from './jobs';
 export * from './bench';
+export * from './billing';
+export * from './recordings';

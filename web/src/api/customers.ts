@@ -13,6 +13,7 @@ export const customersApi = {
   get: (id: number) => http.get<Customer>(`/api/customers/${id}`),
   create: (body: CustomerInput) => http.post<Customer>('/api/customers', body),
   update: (id: number, body: CustomerInput) => http.put<Customer>(`/api/customers/${id}`, body),
+  getUnit: (id: number) => http.get<Unit>(`/api/units/${id}`),
   units: (filter: { q?: string; customerId?: number } = {}) => http.get<Unit[]>(`/api/units${qs(filter)}`),
   createUnit: (body: UnitInput) => http.post<Unit>('/api/units', body),
   updateUnit: (id: number, body: UnitInput) => http.put<Unit>(`/api/units/${id}`, body),

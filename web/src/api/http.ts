@@ -17,6 +17,11 @@ export function setCsrfToken(token: string | null) {
   csrfToken = token;
 }
 
+/** The form token for a request sent outside `request` (an upload through XMLHttpRequest). */
+export async function csrfTokenForUpload(fresh = false): Promise<string> {
+  return !fresh && csrfToken ? csrfToken : fetchCsrfToken();
+}
+
 async function fetchCsrfToken(): Promise<string> {
   const res = await fetch('/api/auth/csrf', { credentials: 'same-origin' });
   const body = (await res.json()) as { csrfToken: string };

@@ -1,0 +1,174 @@
+import {
+  analysisResultSchema,
+  analyzeOptionsSchema,
+  type AnalysisResult,
+  type AnalyzeOptions,
+  type WavInfo,
+} from '../shared/analysis-result';
+import { ClickDetector } from './clicks';
+import { LevelMeter } from './levels';
+import { ChannelPass } from './pass';
+import { buildResult, MEASUREMENT_WINDOW } from './report';
+import { planWelch, SpectrumAccumulator } from './spectrum';
+import { planSweepFrames, SWEEP_WINDOW } from './sweep';
+import { FrameDecoder, fullScaleOf } from './wav-decode';
+import { MAX_HEADER_BYTES, parseWavHeader, WavFormatError } from './wav-header';
+
+// One streaming pass over a WAV file: bytes in (any chunking), result out. Memory is bounded by
+// the block size, the FFT frames in flight and the fixed-size summaries — not by the file length.
+
+export const ENGINE_VERSION = '1.0.0';
+
+/** Sweep energy needs every frame; when the stimulus is not given it is gathered only this far. */
+const AUTO_SWEEP_MAX_SECONDS = 30;
+
+export class AnalyzeOptionsError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'AnalyzeOptionsError';
+  }
+}
+
+export function parseAnalyzeOptions(options: unknown): AnalyzeOptions {
+  const parsed = analyzeOptionsSchema.safeParse(options ?? {});
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0]!;
+    throw new AnalyzeOptionsError(`option ${issue.path.join('.') || '(root)'}: ${issue.message}`);
+  }
+  return parsed.data;
+}
+
+interface Pipeline {
+  info: WavInfo;
+  decoder: FrameDecoder;
+  meters: LevelMeter[];
+  clicks: ClickDetector[];
+  spectrum: SpectrumAccumulator | null;
+  sweep: SpectrumAccumulator | null;
+}
+
+/** Push-based analyser: feed it the file's bytes in order, then call finish(). */
+export class CaptureAnalyzer {
+  private readonly options: AnalyzeOptions;
+  private head: Uint8Array = new Uint8Array(0);
+  private pipeline: Pipeline | null = null;
+  private bytesSeen = 0;
+  private done = false;
+
+  constructor(options: AnalyzeOptions = {}) {
+    this.options = parseAnalyzeOptions(options);
+  }
+
+  /** Header information once the header has been read, else null. */
+  get info(): WavInfo | null {
+    return this.pipeline?.info ?? null;
+  }
+
+  push(bytes: Uint8Array): void {
+    if (this.done) throw new Error('CaptureAnalyzer: push after finish');
+    this.bytesSeen += bytes.length;
+    if (this.pipeline) {
+      this.pipeline.decoder.push(bytes);
+      return;
+    }
+    const head = this.head.length === 0 ? bytes : concat(this.head, bytes);
+    const info = parseWavHeader(head);
+    if (!info) {
+      if (head.length > MAX_HEADER_BYTES) {
+        throw new WavFormatError('header-too-large', `no data chunk within the first ${MAX_HEADER_BYTES} bytes`);
+      }
+      // Copy: the caller may reuse its buffer.
+      this.head = head === bytes ? bytes.slice() : head;
+      return;
+    }
+    this.head = new Uint8Array(0);
+    this.pipeline = this.start(info);
+    if (head.length > info.dataOffset) this.pipeline.decoder.push(head.subarray(info.dataOffset));
+  }
+
+  private start(info: WavInfo): Pipeline {
+    const o = this.options;
+    if (o.drivenChannel !== undefined && o.drivenChannel >= info.channels) {
+      throw new AnalyzeOptionsError(`drivenChannel ${o.drivenChannel} does not exist in a ${info.channels}-channel capture`);
+    }
+    const { hi, lo } = fullScaleOf(info);
+    const wantSweep = o.stimulus === 'sweep' || (o.stimulus === undefined && info.durationS <= AUTO_SWEEP_MAX_SECONDS);
+    const meters = Array.from(
+      { length: info.channels },
+      () =>
+        new LevelMeter({
+          sampleRate: info.sampleRate,
+          totalFrames: info.frames,
+          clipHi: hi,
+          clipLo: lo,
+          countCrossings: wantSweep && o.stimulus === undefined,
+        }),
+    );
+    const clicks = Array.from({ length: info.channels }, () => new ClickDetector(info.sampleRate, info.frames));
+    const passes = meters.map((m, c) => new ChannelPass(m, clicks[c]!));
+    const welch = planWelch(info.sampleRate, info.frames);
+    const spectrum = welch ? new SpectrumAccumulator(welch, info.channels, info.sampleRate, MEASUREMENT_WINDOW) : null;
+    const sweepPlan = wantSweep ? planSweepFrames(info.sampleRate, info.frames) : null;
+    const sweep = sweepPlan ? new SpectrumAccumulator(sweepPlan, info.channels, info.sampleRate, SWEEP_WINDOW) : null;
+    const decoder = new FrameDecoder(info, (block, start, length) => {
+      for (let c = 0; c < block.length; c++) passes[c]!.process(block[c]!, length);
+      spectrum?.collector.push(block, start, length);
+      sweep?.collector.push(block, start, length);
+    });
+    return { info, decoder, meters, clicks, spectrum, sweep };
+  }
+
+  finish(): AnalysisResult {
+    if (this.done) throw new Error('CaptureAnalyzer: finish called twice');
+    this.done = true;
+    const p = this.pipeline;
+    if (!p) {
+      if (this.bytesSeen === 0) throw new WavFormatError('truncated', 'file is empty');
+      const head = this.head;
+      if (head.length < 12) throw new WavFormatError('truncated', `file is only ${head.length} bytes long`);
+      throw new WavFormatError('truncated', `file ends after ${head.length} bytes, before the samples start`);
+    }
+    p.decoder.finish();
+    p.spectrum?.collector.finish(p.info.frames);
+    p.sweep?.collector.finish(p.info.frames);
+    const result = buildResult({
+      engineVersion: ENGINE_VERSION,
+      info: p.info,
+      options: this.options,
+      levels: p.meters.map((m) => m.result()),
+      clicks: p.clicks.map((c) => c.finish()),
+      spectrum: p.spectrum?.result() ?? null,
+      sweepSpectrum: p.sweep?.result() ?? null,
+    });
+    return result;
+  }
+}
+
+function concat(a: Uint8Array, b: Uint8Array): Uint8Array {
+  const out = new Uint8Array(a.length + b.length);
+  out.set(a);
+  out.set(b, a.length);
+  return out;
+}
+
+/** Analyses a whole WAV file held in memory. */
+export function analyzeWavBytes(bytes: Uint8Array, options?: AnalyzeOptions): AnalysisResult {
+  const a = new CaptureAnalyzer(options);
+  a.push(bytes);
+  return a.finish();
+}
+
+/** Analyses a WAV file arriving in chunks (a file or network stream), in constant memory. */
+export async function analyzeWavStream(
+  chunks: AsyncIterable<Uint8Array>,
+  options?: AnalyzeOptions,
+): Promise<AnalysisResult> {
+  const a = new CaptureAnalyzer(options);
+  for await (const chunk of chunks) a.push(chunk);
+  return a.finish();
+}
+
+/** Checks a result against the shared schema (no NaN, no Infinity, every field present). */
+export function validateResult(result: unknown): AnalysisResult {
+  return analysisResultSchema.parse(result);
+}

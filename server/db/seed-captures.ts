@@ -1,0 +1,107 @@
+/**
+ * Demo captures on the demo amplifier job: the synthetic WAVs from samples-synthetic/ stored as a
+ * technician would upload them — clean at the input socket, crackle and poor separation at the
+ * selector output before the repair, clean there after it. They are left 'queued': the analysis
+ * worker finds queued captures without a job when it starts, so a new user sees results at once.
+ */
+import { createHash, randomBytes } from 'node:crypto';
+import { mkdir, readFile, writeFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { and, asc, eq } from 'drizzle-orm';
+import { readWavInfo } from '../../analysis/wav-header';
+import { SIGNAL_PATH_TEMPLATES } from '../../shared/test-points';
+import type { DbOrTx } from './client';
+import type { DemoExtension } from './seed';
+import { calibrationProfiles, captures, testPoints } from './schema/index';
+import { storeContentAddressed, tempDir } from '../services/capture-storage';
+
+const SAMPLES = fileURLToPath(new URL('../../samples-synthetic/', import.meta.url));
+const HOUR = 3600_000;
+
+interface DemoCapture {
+  file: string;
+  /** Position of the test point in the integrated-amplifier signal path template. */
+  position: number;
+  phase: 'before' | 'after';
+  hoursAgo: number;
+  notes: string;
+}
+
+export const DEMO_CAPTURES: readonly DemoCapture[] = [
+  { file: 'demo-before-input-socket.wav', position: 1, phase: 'before', hoursAgo: 46, notes: 'Disc input, 1 kHz tone in the left channel, volume at minimum.' },
+  { file: 'demo-before-selector-out.wav', position: 2, phase: 'before', hoursAgo: 45, notes: 'Same tone, probe on the selector IC output pins. Crackle audible on the tracer.' },
+  { file: 'demo-after-selector-out.wav', position: 2, phase: 'after', hoursAgo: 2, notes: 'After replacing IC301, same set-up as before.' },
+];
+
+/** Test points of the demo job at the template positions; made from the template if missing. */
+async function demoTestPoints(tx: DbOrTx, shopId: number, jobId: number): Promise<Map<number, number>> {
+  let rows = await tx
+    .select({ id: testPoints.id, position: testPoints.position })
+    .from(testPoints)
+    .where(and(eq(testPoints.shopId, shopId), eq(testPoints.jobId, jobId)))
+    .orderBy(asc(testPoints.position));
+  if (rows.length === 0) {
+    const template = SIGNAL_PATH_TEMPLATES.integrated_amplifier;
+    rows = await tx
+      .insert(testPoints)
+      .values(template.map((t, i) => ({ shopId, jobId, position: i + 1, name: t.name, description: t.description })))
+      .returning({ id: testPoints.id, position: testPoints.position });
+  }
+  return new Map(rows.map((r) => [r.position, r.id]));
+}
+
+async function storeSample(filesDir: string, name: string) {
+  const bytes = await readFile(join(SAMPLES, name));
+  const info = readWavInfo(bytes, { fileSize: bytes.length });
+  const sha256 = createHash('sha256').update(bytes).digest('hex');
+  await mkdir(tempDir(filesDir), { recursive: true });
+  const temp = join(tempDir(filesDir), `seed-${randomBytes(8).toString('hex')}.part`);
+  await writeFile(temp, bytes);
+  await storeContentAddressed(filesDir, temp, sha256);
+  return { bytes, info, sha256 };
+}
+
+/** The demo extension, given where this install keeps its files. */
+export function seedCaptures(filesDir: string): DemoExtension {
+  return async (tx, ids) => {
+    const { shopId } = ids;
+    const jobId = ids.jobIds[0]!;
+    const points = await demoTestPoints(tx, shopId, jobId);
+    const [calibration] = await tx
+      .insert(calibrationProfiles)
+      .values({
+        shopId,
+        name: 'Bench interface, line in, ×1 probe',
+        voltsAtFullScale: 1.55,
+        probeAttenuation: 1,
+        notes: 'Checked against the bench meter with a 1 kHz sine (demo figures).',
+        createdBy: ids.users.technician,
+      })
+      .returning({ id: calibrationProfiles.id });
+    const now = Date.now();
+    for (const demo of DEMO_CAPTURES) {
+      const { bytes, info, sha256 } = await storeSample(filesDir, demo.file);
+      await tx.insert(captures).values({
+        shopId,
+        jobId,
+        testPointId: points.get(demo.position) ?? null,
+        phase: demo.phase,
+        stimulus: 'tone',
+        drivenChannel: 0,
+        calibrationId: calibration!.id,
+        originalName: demo.file,
+        sha256,
+        sizeBytes: bytes.length,
+        sampleRate: info.sampleRate,
+        channels: info.channels,
+        bitsPerSample: info.bitsPerSample,
+        durationS: info.durationS,
+        state: 'queued',
+        notes: demo.notes,
+        uploadedBy: ids.users.technician,
+        createdAt: new Date(now - demo.hoursAgo * HOUR),
+      });
+    }
+  };
+}

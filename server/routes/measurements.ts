@@ -1,0 +1,23 @@
+import { Router } from 'express';
+import type { Db } from '../db/client';
+import { compareQuerySchema } from '../../shared/compare';
+import { currentUser, requireRole } from '../middleware/auth';
+import { idParam, parse } from '../middleware/validate';
+import { jobForViewer } from '../services/job-access';
+import { compareForJob, signalPathForJob } from '../services/measurements';
+
+/** Read-only views over a job's measured captures: the signal path and before/after. */
+export function measurementRoutes(db: Db): Router {
+  const r = Router();
+  const staff = requireRole('owner', 'technician', 'front_desk');
+
+  r.get('/jobs/:id/signal-path', staff, async (req, res) => {
+    const job = await jobForViewer(db, currentUser(req), idParam(req.params.id, 'Job'));
+    res.json(await signalPathForJob(db, job.shopId, job.id));
+  });
+  r.get('/jobs/:id/compare', staff, async (req, res) => {
+    const job = await jobForViewer(db, currentUser(req), idParam(req.params.id, 'Job'));
+    res.json(await compareForJob(db, job.shopId, job.id, parse(compareQuerySchema, req.query)));
+  });
+  return r;
+}

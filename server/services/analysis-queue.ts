@@ -1,0 +1,98 @@
+import PgBoss from 'pg-boss';
+import { sql, type SQL } from 'drizzle-orm';
+import type { DbOrTx } from '../db/client';
+
+// The capture-analysis queue: pg-boss tables in PostgreSQL (schema "pgboss"), so any number of
+// worker processes on any machine that reaches the database can share the work.
+
+export const ANALYSIS_QUEUE = 'capture-analysis';
+export const PGBOSS_SCHEMA = 'pgboss';
+
+export interface AnalysisJobData {
+  captureId: number;
+}
+
+/** Attempts after the first; a capture whose analysis throws this many more times is failed. */
+export const ANALYSIS_RETRY_LIMIT = 3;
+/** A job active for longer is taken as lost (worker killed) and retried by pg-boss maintenance. */
+export const ANALYSIS_EXPIRE_SECONDS = 10 * 60;
+
+/**
+ * Lets pg-boss run its SQL inside a Drizzle transaction, so a capture row and its analysis job
+ * commit or roll back together. pg-boss writes $1…$n placeholders; Drizzle binds each value.
+ */
+export function pgBossDb(db: DbOrTx): PgBoss.Db {
+  return {
+    async executeSql(text: string, values: unknown[] = []) {
+      const parts = text.split(/\$(\d+)/);
+      // Drizzle drops an undefined value from the text altogether; PostgreSQL wants NULL there.
+      const chunks: SQL[] = parts.map((part, i) => (i % 2 === 0 ? sql.raw(part) : sql`${values[Number(part) - 1] ?? null}`));
+      const result = await db.execute(sql.join(chunks));
+      return { rows: result.rows };
+    },
+  };
+}
+
+export interface AnalysisQueue {
+  readonly boss: PgBoss;
+  /** Adds one job per capture; pass the open transaction the capture rows were written in. */
+  enqueue(captureIds: number[], db?: DbOrTx): Promise<void>;
+  /** Wakes this process's workers at once (after a commit) rather than at their next poll. */
+  wake(): void;
+  registerLocalWorker(workerId: string): void;
+  stop(): Promise<void>;
+}
+
+export async function startAnalysisQueue(databaseUrl: string, options: { supervise?: boolean } = {}): Promise<AnalysisQueue> {
+  const boss = new PgBoss({
+    connectionString: databaseUrl,
+    schema: PGBOSS_SCHEMA,
+    max: 4,
+    application_name: 'quietpath-queue',
+    schedule: false,
+    supervise: options.supervise ?? true,
+    maintenanceIntervalSeconds: 30,
+  });
+  boss.on('error', (err) => console.error('analysis queue:', err.message));
+  await boss.start();
+  if (!(await boss.getQueue(ANALYSIS_QUEUE))) await createQueueOnce(boss);
+  let stopped = false;
+  const localWorkers = new Set<string>();
+  return {
+    boss,
+    wake() {
+      if (!stopped) for (const id of localWorkers) boss.notifyWorker(id);
+    },
+    registerLocalWorker(workerId) {
+      localWorkers.add(workerId);
+    },
+    async enqueue(captureIds, db) {
+      for (const captureId of captureIds) {
+        const data: AnalysisJobData = { captureId };
+        await boss.send(ANALYSIS_QUEUE, data, db ? { db: pgBossDb(db) } : {});
+      }
+    },
+    async stop() {
+      if (stopped) return;
+      stopped = true;
+      await boss.stop({ graceful: true, wait: true, timeout: 5000, close: true });
+    },
+  };
+}
+
+async function createQueueOnce(boss: PgBoss): Promise<void> {
+  try {
+    await boss.createQueue(ANALYSIS_QUEUE, {
+      name: ANALYSIS_QUEUE,
+      policy: 'standard',
+      retryLimit: ANALYSIS_RETRY_LIMIT,
+      retryDelay: 2,
+      retryBackoff: true,
+      expireInSeconds: ANALYSIS_EXPIRE_SECONDS,
+      retentionDays: 7,
+    });
+  } catch (err) {
+    // Another process created it between our check and our insert.
+    if ((err as { code?: string }).code !== '23505') throw err;
+  }
+}

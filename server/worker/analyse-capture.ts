@@ -1,0 +1,91 @@
+import { createReadStream } from 'node:fs';
+import { eq } from 'drizzle-orm';
+import { AnalyzeOptionsError, analyzeWavStream, ENGINE_VERSION, WavFormatError } from '../../analysis/index';
+import { analysisResultSchema, type AnalyzeOptions } from '../../shared/analysis-result';
+import { figuresFromResult } from '../../shared/capture-figures';
+import type { Db } from '../db/client';
+import { analyses, calibrationProfiles, captures } from '../db/schema/index';
+import { storagePath } from '../services/capture-storage';
+
+// One analysis run: stream the stored WAV through the engine with the capture's settings and
+// store the result. Called by the queue worker; safe to call twice for the same capture.
+
+export interface Attempt {
+  /** Retries already made (0 on the first run). */
+  retryCount: number;
+  retryLimit: number;
+}
+
+export type AnalyseOutcome = 'done' | 'failed' | 'skipped';
+
+/** An error that will not go away on a retry: a damaged or missing file. */
+function isPermanent(err: unknown): boolean {
+  return err instanceof WavFormatError || err instanceof AnalyzeOptionsError || (err as NodeJS.ErrnoException)?.code === 'ENOENT';
+}
+
+function describe(err: unknown): string {
+  if ((err as NodeJS.ErrnoException)?.code === 'ENOENT') return 'the stored file is missing';
+  return err instanceof Error ? err.message : String(err);
+}
+
+export async function analyseCapture(db: Db, filesDir: string, captureId: number, attempt: Attempt): Promise<AnalyseOutcome> {
+  const [row] = await db
+    .select({ capture: captures, calibration: calibrationProfiles })
+    .from(captures)
+    .leftJoin(calibrationProfiles, eq(calibrationProfiles.id, captures.calibrationId))
+    .where(eq(captures.id, captureId));
+  if (!row) return 'skipped'; // deleted since it was queued
+  const { capture, calibration } = row;
+  if (capture.state === 'done') return 'skipped'; // a duplicate job; re-analysis sets 'queued' first
+
+  await db.update(captures).set({ state: 'running', error: null }).where(eq(captures.id, captureId));
+  const options: AnalyzeOptions = { stimulus: capture.stimulus };
+  if (capture.drivenChannel !== null) options.drivenChannel = capture.drivenChannel;
+  if (calibration) {
+    options.voltsAtFullScale = calibration.voltsAtFullScale;
+    options.probeAttenuation = calibration.probeAttenuation;
+  }
+
+  try {
+    // Small reads: the engine works synchronously on each chunk, and in the server process the
+    // HTTP requests wait between chunks, so this bounds their delay.
+    const stream = createReadStream(storagePath(filesDir, capture.sha256), { highWaterMark: 256 * 1024 });
+    const raw = await analyzeWavStream(stream, options);
+    const result = analysisResultSchema.parse(raw);
+    const figures = figuresFromResult(result, { loadOhms: capture.loadOhms });
+    const headline = {
+      engineVersion: result.engineVersion || ENGINE_VERSION,
+      rmsDbfs: figures.levelDbfs,
+      thdPct: figures.thdPct,
+      thdnDb: figures.thdnDb,
+      noiseDbfsA: figures.noiseDbfsA,
+      separationDb: figures.separationDb,
+      clickCount: figures.clickCount,
+      humDbfs: figures.humDbfs,
+      figures,
+      result,
+      createdAt: new Date(),
+    };
+    await db.transaction(async (tx) => {
+      await tx
+        .insert(analyses)
+        .values({ shopId: capture.shopId, captureId, ...headline })
+        .onConflictDoUpdate({ target: analyses.captureId, set: headline });
+      await tx.update(captures).set({ state: 'done', error: null }).where(eq(captures.id, captureId));
+    });
+    return 'done';
+  } catch (err) {
+    const lastTry = isPermanent(err) || attempt.retryCount >= attempt.retryLimit;
+    const message = describe(err);
+    await db
+      .update(captures)
+      .set(
+        lastTry
+          ? { state: 'failed', error: message }
+          : { state: 'queued', error: `Attempt ${attempt.retryCount + 1} failed (${message}); trying again` },
+      )
+      .where(eq(captures.id, captureId));
+    if (isPermanent(err)) return 'failed';
+    throw err; // pg-boss records the failure and schedules the retry
+  }
+}

@@ -1,0 +1,103 @@
+import { eq, inArray, sql } from 'drizzle-orm';
+import type { Db } from '../db/client';
+import { captures } from '../db/schema/index';
+import { ANALYSIS_QUEUE, PGBOSS_SCHEMA, type AnalysisJobData, type AnalysisQueue } from '../services/analysis-queue';
+import { analyseCapture } from './analyse-capture';
+
+// The queue worker: takes capture-analysis jobs one at a time and, now and then, looks for
+// captures that are waiting with no job behind them (demo data, a job lost with a killed worker).
+
+export interface AnalysisWorker {
+  stop(): Promise<void>;
+}
+
+export interface WorkerOptions {
+  queue: AnalysisQueue;
+  db: Db;
+  filesDir: string;
+  pollingIntervalSeconds?: number;
+  sweepIntervalMs?: number;
+  log?: (message: string) => void;
+}
+
+export async function startAnalysisWorker(options: WorkerOptions): Promise<AnalysisWorker> {
+  const { queue, db, filesDir } = options;
+  const log = options.log ?? ((m: string) => console.error(m));
+  let workerId = '';
+  workerId = await queue.boss.work<AnalysisJobData>(
+    ANALYSIS_QUEUE,
+    { includeMetadata: true, batchSize: 1, pollingIntervalSeconds: options.pollingIntervalSeconds ?? 1 },
+    async (jobs) => {
+      for (const job of jobs) {
+        await analyseCapture(db, filesDir, job.data.captureId, { retryCount: job.retryCount, retryLimit: job.retryLimit });
+      }
+      // pg-boss waits out the polling interval even after a job; with a batch of uploads
+      // queued behind this one, fetch the next at once instead.
+      queue.boss.notifyWorker(workerId);
+    },
+  );
+  queue.registerLocalWorker(workerId);
+  const sweep = () =>
+    requeueStranded(db, queue).catch((err: unknown) => log(`analysis sweep: ${err instanceof Error ? err.message : String(err)}`));
+  await sweep();
+  queue.wake();
+  const timer = setInterval(sweep, options.sweepIntervalMs ?? 60_000);
+  timer.unref();
+  return {
+    async stop() {
+      clearInterval(timer);
+      await queue.boss.offWork(ANALYSIS_QUEUE);
+    },
+  };
+}
+
+interface StrandedRow extends Record<string, unknown> {
+  id: number;
+  state: 'queued' | 'running';
+  failed_jobs: number;
+}
+
+/**
+ * Captures waiting or running with no live job: queued ones get a job; running ones whose jobs
+ * all failed (the worker died on every attempt) are marked failed instead of looping forever.
+ * Returns the ids that were queued again.
+ */
+export async function requeueStranded(db: Db, queue: AnalysisQueue): Promise<number[]> {
+  const job = sql.raw(`${PGBOSS_SCHEMA}.job`);
+  const rows = (
+    await db.execute<StrandedRow>(sql`
+      select c.id, c.state,
+        (select count(*)::int from ${job} j
+          where j.name = ${ANALYSIS_QUEUE} and j.state = 'failed' and (j.data->>'captureId')::int = c.id) as failed_jobs
+      from ${captures} c
+      where c.state in ('queued', 'running')
+        and not exists (
+          select 1 from ${job} j
+          where j.name = ${ANALYSIS_QUEUE} and j.state < 'completed' and (j.data->>'captureId')::int = c.id)
+      order by c.id`)
+  ).rows;
+  const gaveUp = rows.filter((r) => r.state === 'running' && r.failed_jobs > 0).map((r) => r.id);
+  const again = rows.filter((r) => !gaveUp.includes(r.id)).map((r) => r.id);
+  if (gaveUp.length > 0) {
+    await db
+      .update(captures)
+      .set({ state: 'failed', error: 'The analysis stopped without finishing on every attempt; start it again to retry' })
+      .where(inArray(captures.id, gaveUp));
+  }
+  for (const id of again) {
+    // Each capture in its own transaction: the state check and the new job commit together.
+    await db.transaction(async (tx) => {
+      const [still] = await tx.select({ state: captures.state }).from(captures).where(eq(captures.id, id)).for('update');
+      if (!still || (still.state !== 'queued' && still.state !== 'running')) return;
+      // Another sweeper may have queued it while we waited for the lock.
+      const live = await tx.execute(
+        sql`select 1 from ${job} j where j.name = ${ANALYSIS_QUEUE} and j.state < 'completed' and (j.data->>'captureId')::int = ${id}`,
+      );
+      if (live.rows.length === 0) {
+        await tx.update(captures).set({ state: 'queued' }).where(eq(captures.id, id));
+        await queue.enqueue([id], tx);
+      }
+    });
+  }
+  return again;
+}
