@@ -10,7 +10,15 @@ export {
   parseAnalyzeOptions,
   validateResult,
 } from './analyze';
-export { readWavInfo, WavFormatError, type WavErrorCode } from './wav-header';
+export {
+  readWavInfo,
+  WavFormatError,
+  MAX_HEADER_BYTES,
+  MIN_SAMPLE_RATE,
+  MAX_SAMPLE_RATE,
+  MAX_CHANNELS,
+  type WavErrorCode,
+} from './wav-header';
 export { encodeWav, encodeWavHeader, encodeSamples, bytesPerSample, type SampleFormat, type EncodeOptions } from './wav-encode';
 export {
   generateSine,

@@ -2,7 +2,7 @@ import type { WavInfo } from '../shared/analysis-result';
 
 // RIFF/WAVE header parsing. Our own parser rather than wavefile's because it must work on the
 // first bytes of a file (upload validation, streaming) and name each problem precisely.
-// Layout: Microsoft RIFF/WAVE (fmt, data, WAVE_FORMAT_EXTENSIBLE) and EBU Tech 3306 (RF64/ds64).
+// Layout: the RIFF/WAVE format (fmt and data chunks, WAVE_FORMAT_EXTENSIBLE) and EBU Tech 3306 (RF64, ds64).
 
 export type WavErrorCode =
   | 'not-riff'

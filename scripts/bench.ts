@@ -18,7 +18,7 @@ const CLICKS_PER_MINUTE = 2;
 const TARGET_RATIO = 2;
 const TARGET_RSS_MB = 200;
 const ROUNDS = 3;
-const s = (ms: number): string => `${(ms / 1000).toFixed(2)} s`;
+const secs = (ms: number): string => `${(ms / 1000).toFixed(2)} s`;
 
 function benchFile(minutes: number): string {
   return join(DIR, `capture-${minutes}min-96k-24bit-stereo.wav`);
@@ -132,8 +132,8 @@ async function main(): Promise<number> {
     const pass = ratio <= TARGET_RATIO && rssMb < TARGET_RSS_MB && a.clicks[0] === expectedClicks && a.clicks[1] === 0;
     ok &&= pass;
     rows.push(
-      `${minutes} min, ${mb.toFixed(0)} MB: sox stats ${s(soxMs)} (CPU ${s(soxCpuMs)}); analysis ${s(a.analysisMs)} ` +
-        `(CPU ${s(cpuMs)}; child process incl. start-up ${s(a.wallMs)}); ratio ${ratio.toFixed(2)}× ` +
+      `${minutes} min, ${mb.toFixed(0)} MB: sox stats ${secs(soxMs)} (CPU ${secs(soxCpuMs)}); analysis ${secs(a.analysisMs)} ` +
+        `(CPU ${secs(cpuMs)}; child process incl. start-up ${secs(a.wallMs)}); ratio ${ratio.toFixed(2)}× ` +
         `(CPU ${(cpuMs / soxCpuMs).toFixed(2)}×; target ≤ ${TARGET_RATIO}×); peak RSS ${rssMb.toFixed(0)} MB (target < ${TARGET_RSS_MB}); ` +
         `clicks ${a.clicks.join('/')} (built in ${expectedClicks}/0); separation ${a.separationDb?.toFixed(2)} dB (built in 60) — ${pass ? 'PASS' : 'MISS'}`,
     );

@@ -43,7 +43,8 @@ export async function listSheets(db: DbOrTx, shopId: number, search = ''): Promi
       maker: specSheets.maker,
       model: specSheets.model,
       createdAt: specSheets.createdAt,
-      figureCount: sql<number>`(select count(*)::int from ${specFigures} where ${specFigures.specSheetId} = ${specSheets.id})`,
+      // Written out in full: inside a sub-select Drizzle leaves column names unqualified, and "id" would bind to spec_figures.
+      figureCount: sql<number>`(select count(*)::int from spec_figures f where f.spec_sheet_id = "spec_sheets"."id")`,
     })
     .from(specSheets)
     .where(and(eq(specSheets.shopId, shopId), search ? ilike(sql`${specSheets.maker} || ' ' || ${specSheets.model}`, q) : undefined))

@@ -66,6 +66,12 @@ describe('spec sheets', () => {
     const listed = await c.technician.get<SpecSheetSummary[]>(`/api/spec-sheets?q=${input.model}`);
     expect(listed.status).toBe(200);
     expect(listed.body).toMatchObject([{ id: made.body.id, figureCount: 1 }]);
+    // The demo sheet has several figures: the list's count must match the sheet itself.
+    const all = await c.technician.get<SpecSheetSummary[]>('/api/spec-sheets');
+    const demo = all.body.find((x) => x.model === 'Solace 70')!;
+    const demoSheet = await c.technician.get<SpecSheet>(`/api/spec-sheets/${demo.id}`);
+    expect(demoSheet.body.figures.length).toBeGreaterThan(1);
+    expect(demo.figureCount).toBe(demoSheet.body.figures.length);
 
     expect((await c.technician.del(`/api/spec-sheets/${made.body.id}`)).status).toBe(204);
     expect((await c.technician.get(`/api/spec-sheets/${made.body.id}`)).status).toBe(404);
