@@ -55,6 +55,8 @@ interface CannonResult {
 /** autocannon runs in its own process, so the load generator does not share the server's thread. */
 async function load(url: string, cookie: string) {
   const cli = join(root, 'node_modules', 'autocannon', 'autocannon.js');
+  // A short unreported run first, so the figures are the steady state rather than JIT warm-up.
+  await promisify(execFile)(process.execPath, [cli, '--json', '-c', '50', '-d', '3', '-H', `cookie=${cookie}`, url], { maxBuffer: 64 * 1024 * 1024 });
   const { stdout: out } = await promisify(execFile)(process.execPath, [cli, '--json', '-c', '50', '-d', '10', '-H', `cookie=${cookie}`, url], {
     encoding: 'utf8',
     maxBuffer: 64 * 1024 * 1024,
@@ -84,7 +86,7 @@ async function uploads(base: string, auth: { cookie: string; csrf: string }, job
   await Promise.all(
     Array.from({ length: 10 }, async (_, i) => {
       const form = new FormData();
-      form.append('meta', JSON.stringify([{ phase: 'before', stimulus: 'tone', testPointId: null, drivenChannel: null }]));
+      form.append('metadata', JSON.stringify([{ phase: 'before', stimulus: 'tone', testPointId: null, drivenChannel: null }]));
       form.append('files', await openAsBlob(file), `load-${i}.wav`);
       const res = await fetch(`${base}/api/jobs/${jobId}/captures`, {
         method: 'POST',

@@ -17,8 +17,9 @@ const routes: RouteRecordRaw[] = [
     path: '/',
     component: () => import('@/components/AppShell.vue'),
     children: [
-      { path: '', name: 'home', redirect: () => ({ name: 'jobs.list' }) },
-      { path: 'jobs', name: 'jobs.list', component: () => import('@/views/jobs/JobListView.vue'), meta: { title: 'Jobs' } },
+      // A customer's home is their own repairs page; staff start at the shop's job list.
+      { path: '', name: 'home', redirect: () => ({ name: useSessionStore().role === 'customer' ? 'my.repairs' : 'jobs.list' }) },
+      { path: 'jobs', name: 'jobs.list', component: () => import('@/views/jobs/JobListView.vue'), meta: { roles: ['owner', 'technician', 'front_desk'], title: 'Jobs' } },
       { path: 'jobs/new', name: 'jobs.new', component: () => import('@/views/jobs/JobIntakeView.vue'), meta: { roles: ['owner', 'front_desk'], title: 'Book in' } },
       { path: 'jobs/:id(\\d+)', name: 'jobs.detail', component: () => import('@/views/jobs/JobDetailView.vue'), props: (r) => ({ id: Number(r.params.id) }), meta: { title: 'Job' } },
       {
