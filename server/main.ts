@@ -6,6 +6,7 @@ import { runMigrations } from './db/migrate';
 import { createApp } from './app';
 import { startBilling } from './billing-runtime';
 import { startAnalysisQueue } from './services/analysis-queue';
+import { sweepOrphanedUploads } from './services/capture-storage';
 import { startAnalysisWorker } from './worker/analysis-worker';
 
 export interface RunningServer {
@@ -19,6 +20,7 @@ export async function startServer(env: Record<string, string | undefined> = proc
   const config: Config = loadConfig(env);
   const { pool, db } = createDb(config.DATABASE_URL);
   await runMigrations(db);
+  await sweepOrphanedUploads(config.FILES_DIR);
   const queue = await startAnalysisQueue(config.DATABASE_URL);
   const worker = config.WORKER === 'on' ? await startAnalysisWorker({ queue, db, filesDir: config.FILES_DIR }) : null;
   const billing = await startBilling(config, db);

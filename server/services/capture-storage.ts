@@ -1,6 +1,6 @@
 import { createHash, randomBytes } from 'node:crypto';
 import { createWriteStream } from 'node:fs';
-import { mkdir, open, rename, stat, unlink } from 'node:fs/promises';
+import { mkdir, open, readdir, rename, stat, unlink } from 'node:fs/promises';
 import { join } from 'node:path';
 import { Transform } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
@@ -44,7 +44,8 @@ export async function removeQuietly(path: string | undefined): Promise<void> {
 export function hashingStorage(dir: string): StorageEngine {
   return {
     _handleFile(_req, file, callback) {
-      const path = join(dir, `upload-${randomBytes(12).toString('hex')}.part`);
+      // The process id in the name lets a restarted server tell its dead predecessor's leftovers from live uploads.
+      const path = join(dir, `upload-${process.pid}-${randomBytes(12).toString('hex')}.part`);
       // Set at once so multer can remove a half-written file when the request is aborted.
       file.path = path;
       const hash = createHash('sha256');
@@ -115,4 +116,35 @@ export async function storeContentAddressed(filesDir: string, tempPath: string, 
   await rename(tempPath, target);
   await fsyncPath(folder, 'r').catch(() => undefined); // not every file system syncs folders
   return { path: target, created: true };
+}
+
+function processAlive(pid: number): boolean {
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (err) {
+    return (err as NodeJS.ErrnoException).code === 'EPERM';
+  }
+}
+
+/**
+ * Removes half-received uploads left by a server that was killed mid-request: temp files whose
+ * writing process is gone, and any other temp file older than a day.
+ */
+export async function sweepOrphanedUploads(filesDir: string): Promise<number> {
+  const dir = tempDir(filesDir);
+  const names = await readdir(dir).catch(() => [] as string[]);
+  let removed = 0;
+  for (const name of names) {
+    const owner = /^upload-(\d+)-[0-9a-f]+\.part$/.exec(name);
+    const path = join(dir, name);
+    const stale = owner
+      ? Number(owner[1]) !== process.pid && !processAlive(Number(owner[1]))
+      : Date.now() - (await stat(path)).mtimeMs > 24 * 3600_000;
+    if (stale) {
+      await removeQuietly(path);
+      removed++;
+    }
+  }
+  return removed;
 }

@@ -1,0 +1,128 @@
+/**
+ * Faults: a server killed in the middle of an upload, and PostgreSQL restarted under a running
+ * server. Afterwards nothing is half-written and the server answers again.
+ */
+import { afterAll, describe, expect, inject, it } from 'vitest';
+import { spawn, type ChildProcess } from 'node:child_process';
+import { mkdtempSync, readdirSync, existsSync } from 'node:fs';
+import { request } from 'node:http';
+import { join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { startTestServer } from '../support/server';
+import { ApiClient, signedIn } from '../support/client';
+import { plainWav } from '../support/hostile-wavs';
+import { startCluster } from '../../scripts/lib/pg-cluster';
+
+const root = resolve(fileURLToPath(new URL('../..', import.meta.url)));
+const JOB = 1;
+const children: ChildProcess[] = [];
+afterAll(() => children.forEach((c) => c.kill('SIGKILL')));
+
+function startChild(env: Record<string, string>): Promise<{ url: string; proc: ChildProcess }> {
+  const proc = spawn(process.execPath, ['--import', 'tsx', join(root, 'tests/support/child-server.ts')], {
+    cwd: root,
+    env: { ...process.env, ...env },
+    stdio: ['ignore', 'pipe', 'pipe'],
+  });
+  children.push(proc);
+  return new Promise((res, rej) => {
+    let out = '';
+    proc.stdout!.on('data', (d: Buffer) => {
+      out += d.toString();
+      const line = out.split('\n').find((l) => l.startsWith('{'));
+      if (line) res({ url: (JSON.parse(line) as { url: string }).url, proc });
+    });
+    proc.once('exit', (code) => rej(new Error(`child server exited with ${code}`)));
+  });
+}
+
+const until = async (check: () => boolean, ms = 15_000) => {
+  const end = Date.now() + ms;
+  while (!check()) {
+    if (Date.now() > end) throw new Error('timed out waiting');
+    await new Promise((r) => setTimeout(r, 50));
+  }
+};
+
+describe('killed in the middle of an upload', () => {
+  it('leaves no capture row, and the restarted server removes the partial file', async () => {
+    const filesDir = mkdtempSync(join(inject('scratchDir'), 'fault-files-'));
+    const env = {
+      DATABASE_URL: inject('databaseUrl'),
+      HOST: '127.0.0.1',
+      PORT: '0',
+      SESSION_SECRET: 'fault-test-secret-of-sufficient-length',
+      FILES_DIR: filesDir,
+      WORKER: 'off',
+    };
+    const first = await startChild(env);
+    const tech = await signedIn(first.url, 'tech@quietpath.test');
+    const before = (await tech.get<unknown[]>(`/api/jobs/${JOB}/captures`)).body.length;
+
+    // A multipart upload that sends its head and part of the file, then stalls.
+    const boundary = 'quietpath-fault-boundary';
+    const head =
+      `--${boundary}\r\nContent-Disposition: form-data; name="metadata"\r\n\r\n` +
+      `${JSON.stringify([{ phase: 'before', stimulus: 'tone' }])}\r\n` +
+      `--${boundary}\r\nContent-Disposition: form-data; name="files"; filename="cut-off.wav"\r\nContent-Type: audio/wav\r\n\r\n`;
+    const wav = plainWav(480_000);
+    const url = new URL(`${first.url}/api/jobs/${JOB}/captures`);
+    const cookie = (tech as unknown as { cookies: Map<string, string> }).cookies;
+    const req = request({
+      host: url.hostname,
+      port: url.port,
+      path: url.pathname,
+      method: 'POST',
+      headers: {
+        'content-type': `multipart/form-data; boundary=${boundary}`,
+        'content-length': String(head.length + wav.length + boundary.length + 8),
+        'x-csrf-token': tech.csrfToken!,
+        cookie: [...cookie].map(([k, v]) => `${k}=${v}`).join('; '),
+      },
+    });
+    req.on('error', () => {});
+    req.write(head);
+    req.write(wav.subarray(0, 600_000));
+    const tmp = join(filesDir, 'tmp');
+    await until(() => existsSync(tmp) && readdirSync(tmp).some((n) => n.endsWith('.part')));
+    first.proc.kill('SIGKILL');
+    await new Promise((r) => first.proc.once('exit', r));
+    expect(readdirSync(tmp).filter((n) => n.endsWith('.part'))).toHaveLength(1);
+
+    const second = await startChild(env);
+    expect(readdirSync(tmp)).toEqual([]);
+    const again = await signedIn(second.url, 'tech@quietpath.test');
+    expect((await again.get<unknown[]>(`/api/jobs/${JOB}/captures`)).body.length).toBe(before);
+    second.proc.kill('SIGKILL');
+  });
+});
+
+describe('PostgreSQL restarted under a running server', () => {
+  it('requests fail cleanly while it is down and succeed again without restarting the server', async () => {
+    const server = await startTestServer({ WORKER: 'off' });
+    try {
+      const desk = await signedIn(server.url, 'desk@quietpath.test');
+      expect((await desk.get('/api/jobs')).status).toBe(200);
+      const db = new URL(inject('databaseUrl'));
+      const opts = { dataDir: join(inject('scratchDir'), 'postgres'), port: Number(db.port), database: db.pathname.slice(1), log: () => {} };
+      (await startCluster(opts)).stop();
+
+      const down = await desk.get<{ error: string }>('/api/jobs');
+      expect(down.status).toBe(503);
+      expect(down.body.error).toMatch(/database/i);
+      const health = await new ApiClient(server.url).get<{ ok: boolean }>('/api/health');
+      expect(health.status).toBe(503);
+
+      await startCluster(opts);
+      let status = 0;
+      for (let i = 0; i < 50 && status !== 200; i++) {
+        status = (await desk.get('/api/jobs')).status;
+        if (status !== 200) await new Promise((r) => setTimeout(r, 100));
+      }
+      expect(status).toBe(200);
+      expect((await desk.get<{ user: { email: string } }>('/api/auth/me')).body.user.email).toBe('desk@quietpath.test');
+    } finally {
+      await server.close();
+    }
+  });
+});
