@@ -42,7 +42,7 @@ async function addSpecSheet(tx: DbOrTx, shopId: number) {
 
 async function addRepairLog(tx: DbOrTx, shopId: number, jobId: number, technicianId: number) {
   const by = { shopId, jobId, createdBy: technicianId };
-  await tx.insert(partsUsed).values({ ...by, reference: 'IC301', partNumber: 'QS-4066X', description: 'Input selector switch IC (invented part)', quantity: 1, unitCostMinor: 480 });
+  await tx.insert(partsUsed).values({ ...by, reference: 'IC301', partNumber: 'QS-7318X', description: 'Input selector switch IC (invented part)', quantity: 1, unitCostMinor: 480 });
   await tx.insert(railChecks).values([
     { ...by, rail: '+B main', nominalV: 38, measuredV: 37.4, tolerancePct: 5, note: 'At idle, mains 230 V on the variac.' },
     { ...by, rail: '−B main', nominalV: -38, measuredV: -37.2, tolerancePct: 5, note: 'At idle, mains 230 V on the variac.' },

@@ -30,7 +30,7 @@ beforeAll(async () => {
 });
 afterAll(() => server.close());
 
-const part = { reference: 'IC301', partNumber: 'QS-4066X', description: 'Selector IC', quantity: 2, unitCostMinor: 480 };
+const part = { reference: 'IC301', partNumber: 'QS-7318X', description: 'Selector IC', quantity: 2, unitCostMinor: 480 };
 const rail = { rail: '+B main', nominalV: 35, measuredV: 36.75, tolerancePct: 5 };
 const bias = { channel: 'Left', testPoint: 'TP501', targetMv: 10, toleranceMv: 2, coldMv: 6.5, warmUpMinutes: 30, warmMv: 12.5, finalMv: 10.4 };
 
@@ -43,7 +43,7 @@ describe('parts used', () => {
     const edited = await c.owner.patch<Part>(`/api/parts/${added.body.id}`, { quantity: 3 });
     expect(edited.status).toBe(200);
     // A partial edit leaves the other fields alone.
-    expect(edited.body).toMatchObject({ partNumber: 'QS-4066X', description: 'Selector IC', quantity: 3, lineTotalMinor: 1440 });
+    expect(edited.body).toMatchObject({ partNumber: 'QS-7318X', description: 'Selector IC', quantity: 3, lineTotalMinor: 1440 });
     const listed = await c.front_desk.get<Part[]>(`/api/jobs/${job.id}/parts`);
     expect(listed.status).toBe(200);
     expect(listed.body.map((p) => p.id)).toEqual([added.body.id]);
