@@ -21,7 +21,10 @@ export async function startServer(env: Record<string, string | undefined> = proc
   const { pool, db } = createDb(config.DATABASE_URL);
   await runMigrations(db);
   await sweepOrphanedUploads(config.FILES_DIR);
-  const queue = await startAnalysisQueue(config.DATABASE_URL);
+  const queue = await startAnalysisQueue(config.DATABASE_URL, {
+    expireSeconds: config.ANALYSIS_EXPIRE_SECONDS,
+    maintenanceSeconds: config.QUEUE_MAINTENANCE_SECONDS,
+  });
   const worker = config.WORKER === 'on' ? await startAnalysisWorker({ queue, db, filesDir: config.FILES_DIR }) : null;
   const billing = await startBilling(config, db);
   const app = createApp({ config, db, pool, queue, billing });

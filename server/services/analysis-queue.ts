@@ -43,7 +43,15 @@ export interface AnalysisQueue {
   stop(): Promise<void>;
 }
 
-export async function startAnalysisQueue(databaseUrl: string, options: { supervise?: boolean } = {}): Promise<AnalysisQueue> {
+export interface QueueOptions {
+  supervise?: boolean;
+  /** Seconds before a running analysis is taken as lost (its worker killed) and retried. */
+  expireSeconds?: number;
+  maintenanceSeconds?: number;
+}
+
+export async function startAnalysisQueue(databaseUrl: string, options: QueueOptions = {}): Promise<AnalysisQueue> {
+  const expireInSeconds = options.expireSeconds ?? ANALYSIS_EXPIRE_SECONDS;
   const boss = new PgBoss({
     connectionString: databaseUrl,
     schema: PGBOSS_SCHEMA,
@@ -51,7 +59,7 @@ export async function startAnalysisQueue(databaseUrl: string, options: { supervi
     application_name: 'quietpath-queue',
     schedule: false,
     supervise: options.supervise ?? true,
-    maintenanceIntervalSeconds: 30,
+    maintenanceIntervalSeconds: options.maintenanceSeconds ?? 30,
   });
   boss.on('error', (err) => console.error('analysis queue:', err.message));
   await boss.start();
@@ -69,7 +77,7 @@ export async function startAnalysisQueue(databaseUrl: string, options: { supervi
     async enqueue(captureIds, db) {
       for (const captureId of captureIds) {
         const data: AnalysisJobData = { captureId };
-        await boss.send(ANALYSIS_QUEUE, data, db ? { db: pgBossDb(db) } : {});
+        await boss.send(ANALYSIS_QUEUE, data, db ? { db: pgBossDb(db), expireInSeconds } : { expireInSeconds });
       }
     },
     async stop() {

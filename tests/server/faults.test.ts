@@ -12,6 +12,9 @@ import { startTestServer } from '../support/server';
 import { ApiClient, signedIn } from '../support/client';
 import { plainWav } from '../support/hostile-wavs';
 import { startCluster } from '../../scripts/lib/pg-cluster';
+import { testDb } from '../support/server';
+import { eq } from 'drizzle-orm';
+import { analyses, captures } from '../../server/db/schema/index';
 
 const root = resolve(fileURLToPath(new URL('../..', import.meta.url)));
 const JOB = 1;
@@ -123,6 +126,58 @@ describe('PostgreSQL restarted under a running server', () => {
       expect((await desk.get<{ user: { email: string } }>('/api/auth/me')).body.user.email).toBe('desk@quietpath.test');
     } finally {
       await server.close();
+    }
+  });
+});
+
+describe('killed in the middle of an analysis', () => {
+  it('the capture is measured after a restart, once the lost attempt expires', async () => {
+    const filesDir = mkdtempSync(join(inject('scratchDir'), 'fault-analysis-'));
+    // Short expiry and maintenance so the lost attempt is noticed within seconds, not the default 10 minutes.
+    const env = {
+      DATABASE_URL: inject('databaseUrl'),
+      HOST: '127.0.0.1',
+      PORT: '0',
+      SESSION_SECRET: 'fault-test-secret-of-sufficient-length',
+      FILES_DIR: filesDir,
+      WORKER: 'on',
+      ANALYSIS_EXPIRE_SECONDS: '2',
+      QUEUE_MAINTENANCE_SECONDS: '1',
+    };
+    const { db, close } = testDb();
+    try {
+      const first = await startChild(env);
+      const tech = await signedIn(first.url, 'tech@quietpath.test');
+      // Ten minutes of 48 kHz stereo: long enough that the analysis can be caught running.
+      const form = new FormData();
+      form.append('metadata', JSON.stringify([{ phase: 'before', stimulus: 'tone' }]));
+      form.append('files', new Blob([plainWav(48_000 * 600)]), 'long-run.wav');
+      const up = await tech.call<{ captures: { id: number }[] }>('POST', '/api/jobs/2/captures', form);
+      expect(up.status).toBe(201);
+      const id = up.body.captures[0]!.id;
+      const state = async () => (await db.select({ state: captures.state }).from(captures).where(eq(captures.id, id)))[0]!.state;
+      const end = Date.now() + 30_000;
+      while ((await state()) !== 'running') {
+        if (Date.now() > end) throw new Error('the analysis never started');
+      }
+      first.proc.kill('SIGKILL');
+      await new Promise((r) => first.proc.once('exit', r));
+      expect(await state()).toBe('running');
+      expect(await db.select().from(analyses).where(eq(analyses.captureId, id))).toEqual([]);
+
+      const second = await startChild(env);
+      const done = Date.now() + 60_000;
+      while ((await state()) !== 'done') {
+        if (Date.now() > done) throw new Error(`still ${await state()} a minute after the restart`);
+        await new Promise((r) => setTimeout(r, 200));
+      }
+      const [row] = await db.select().from(analyses).where(eq(analyses.captureId, id));
+      expect(row?.rmsDbfs).toBeCloseTo(20 * Math.log10(3000 / 32768), 1);
+      const again = await signedIn(second.url, 'tech@quietpath.test');
+      expect((await again.del(`/api/captures/${id}`)).status).toBe(204);
+      second.proc.kill('SIGKILL');
+    } finally {
+      await close();
     }
   });
 });
