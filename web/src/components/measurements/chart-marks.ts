@@ -8,9 +8,11 @@ export interface VerticalMark {
 
 /**
  * A uPlot plugin drawing amber vertical lines with short labels at given x values (harmonic
- * markers on a spectrum, click events on a waveform), above the series.
+ * markers on a spectrum, click events on a waveform), above the series. Pass a function when the
+ * marks change between redraws (a live chart); it is read at each draw.
  */
-export function verticalMarks(marks: VerticalMark[]): uPlot.Plugin {
+export function verticalMarks(source: VerticalMark[] | (() => VerticalMark[])): uPlot.Plugin {
+  const current = typeof source === 'function' ? source : () => source;
   return {
     hooks: {
       draw: (u: uPlot) => {
@@ -27,7 +29,7 @@ export function verticalMarks(marks: VerticalMark[]): uPlot.Plugin {
         ctx.setLineDash([4 * dpr, 3 * dpr]);
         ctx.font = `${11 * dpr}px "JetBrains Mono", monospace`;
         ctx.textAlign = 'center';
-        for (const m of marks) {
+        for (const m of current()) {
           const x = u.valToPos(m.x, 'x', true);
           if (!Number.isFinite(x) || x < left || x > left + width) continue;
           ctx.beginPath();
