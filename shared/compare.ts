@@ -124,7 +124,7 @@ export const compareQuerySchema = z
   .object({ before: optionalId, after: optionalId, testPointId: optionalId })
   .strict()
   .refine((q) => q.testPointId !== undefined || q.before !== undefined || q.after !== undefined, {
-    message: 'Give before and after capture ids, or a testPointId',
+    message: 'Choose a before and an after capture to compare, or a test point that has both',
   })
   .refine((q) => q.testPointId === undefined || (q.before === undefined && q.after === undefined), {
     message: 'Give either capture ids or a testPointId, not both',
