@@ -64,8 +64,11 @@ export class CaptureAnalyzer {
     return this.pipeline?.info ?? null;
   }
 
-  push(bytes: Uint8Array): void {
+  push(chunk: Uint8Array): void {
     if (this.done) throw new Error('CaptureAnalyzer: push after finish');
+    // A plain Uint8Array view of a subclass (Node's Buffer): the decoder's loops then see one
+    // array shape, carried partial frames included, and stay monomorphic and fast.
+    const bytes = Object.getPrototypeOf(chunk) === Uint8Array.prototype ? chunk : new Uint8Array(chunk.buffer, chunk.byteOffset, chunk.byteLength);
     this.bytesSeen += bytes.length;
     if (this.pipeline) {
       this.pipeline.decoder.push(bytes);

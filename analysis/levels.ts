@@ -39,6 +39,11 @@ export class LevelMeter {
   private readonly segSquares: Float64Array;
   private readonly segCounts: Float64Array;
   private readonly scratch = new Float64Array(4);
+  private readonly pointEdges: Float64Array;
+  private readonly segEdges: Float64Array;
+  /** Waveform point and zero-crossing segment of the next frame. */
+  private point = 0;
+  private seg = 0;
 
   /** countCrossings: only sweep recognition needs them. */
   constructor(options: { sampleRate: number; totalFrames: number; clipHi: number; clipLo: number; countCrossings: boolean }) {
@@ -53,29 +58,31 @@ export class LevelMeter {
     this.segCrossings = new Float64Array(ZCR_SEGMENTS);
     this.segSquares = new Float64Array(ZCR_SEGMENTS);
     this.segCounts = new Float64Array(ZCR_SEGMENTS);
+    this.pointEdges = LevelMeter.edges(this.points, this.totalFrames);
+    this.segEdges = LevelMeter.edges(ZCR_SEGMENTS, this.totalFrames);
+    this.advance();
   }
 
-  /** Index of the first frame of waveform point p (points split the capture evenly). */
-  private pointStart(p: number): number {
-    return Math.floor((p * this.totalFrames) / this.points);
+  /**
+   * First frame of each waveform point and zero-crossing segment (p·T/P rounded down; the last
+   * edge is T). Computed once here: products like p·T pass 2^31 on long captures, and doing them
+   * per run made the optimised pass loop fall back to slower code mid-capture.
+   */
+  private static edges(parts: number, totalFrames: number): Float64Array {
+    const e = new Float64Array(parts + 1);
+    for (let p = 0; p <= parts; p++) e[p] = Math.floor((p * totalFrames) / parts);
+    return e;
   }
 
-  private segmentStart(s: number): number {
-    return Math.floor((s * this.totalFrames) / ZCR_SEGMENTS);
-  }
-
-  /** Waveform point and zero-crossing segment of the next frame: p = ceil((n+1)·P/T) − 1. */
-  private position(): { point: number; seg: number } {
-    return {
-      point: Math.min(this.points - 1, Math.ceil(((this.n + 1) * this.points) / this.totalFrames) - 1),
-      seg: Math.min(ZCR_SEGMENTS - 1, Math.ceil(((this.n + 1) * ZCR_SEGMENTS) / this.totalFrames) - 1),
-    };
+  /** Moves to the last point and segment that start at or before the next frame (skipping empty ones). */
+  private advance(): void {
+    while (this.point < this.points - 1 && this.n >= this.pointEdges[this.point + 1]!) this.point++;
+    while (this.seg < ZCR_SEGMENTS - 1 && this.n >= this.segEdges[this.seg + 1]!) this.seg++;
   }
 
   /** Frames that can be taken as one run: up to the next waveform point or segment. */
   room(): number {
-    const { point, seg } = this.position();
-    return Math.max(1, Math.min(this.pointStart(point + 1), this.segmentStart(seg + 1)) - this.n);
+    return Math.max(1, Math.min(this.pointEdges[this.point + 1]!, this.segEdges[this.seg + 1]!) - this.n);
   }
 
   /** True when zero crossings are wanted: runs must then go through scanRun. */
@@ -88,8 +95,11 @@ export class LevelMeter {
    * pass.ts: sums = [Σx, Σx², min, max].
    */
   addRun(x: Float64Array, from: number, to: number, sums: Float64Array, crossings = 0): void {
-    const { point, seg } = this.position();
-    const [sum, sq, lo, hi] = [sums[0]!, sums[1]!, sums[2]!, sums[3]!];
+    const { point, seg } = this;
+    const sum = sums[0]!;
+    const sq = sums[1]!;
+    const lo = sums[2]!;
+    const hi = sums[3]!;
     // Clipped samples are rare: count them only in runs that reach full scale.
     if (hi >= this.clipHi || lo <= this.clipLo) {
       for (let k = from; k < to; k++) if (x[k]! >= this.clipHi || x[k]! <= this.clipLo) this.clipped++;
@@ -104,6 +114,7 @@ export class LevelMeter {
     this.segSquares[seg]! += sq;
     this.segCounts[seg]! += to - from;
     this.n += to - from;
+    this.advance();
   }
 
   /** Measures a run itself, zero crossings included (a separate loop: they cost as much as the rest). */

@@ -60,6 +60,7 @@ function warmCache(path: string): void {
 
 /** Wall and CPU (user + system) seconds of `sox FILE -n stats`, timed by bash's `time`. */
 function timeSox(path: string): { wallMs: number; cpuMs: number } {
+  if (spawnSync('sox', ['--version']).error) throw new Error("sox is not installed: the bench compares with Debian's sox (apt-get install sox)");
   const r = spawnSync('bash', ['-c', 'TIMEFORMAT="%R %U %S"; time sox "$0" -n stats 2>/dev/null', path], { encoding: 'utf8' });
   const [wall, user, sys] = r.stderr.trim().split(/\s+/).slice(-3).map(Number);
   if (r.status !== 0 || ![wall, user, sys].every((v) => Number.isFinite(v))) throw new Error(`sox failed: ${r.stderr}`);

@@ -1,6 +1,7 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import wavefile from 'wavefile';
 import { analyzeWavBytes } from '../../analysis/analyze';
+import { LevelMeter, WAVEFORM_POINTS, ZCR_SEGMENTS } from '../../analysis/levels';
 import { generateSine } from '../../analysis/generate';
 import { encodeWav } from '../../analysis/wav-encode';
 import { soxDir, soxStats, SOX_RMS_TO_DBFS } from './helpers';
@@ -71,4 +72,44 @@ describe('level, peak, crest factor, DC (AES17 dBFS)', () => {
     expect(plain.levelDbv).toBeNull();
     expect(plain.noiseDbu).toBeNull();
   });
+});
+
+describe('waveform envelope and zero-crossing segments (streaming bookkeeping)', () => {
+  // Analytic: point p covers frames [⌊p·T/P⌋, ⌊(p+1)·T/P⌋) and segment s likewise with 32 parts;
+  // each must hold exactly the min, max, crossings and mean square of its own frames, whatever
+  // the run lengths the samples arrive in. Lengths below 32 leave some segments empty.
+  for (const frames of [7, 31, 1000, 4801, 123457]) {
+    it(`${frames} frames: every point and segment matches a direct computation`, () => {
+      const x = Float64Array.from({ length: frames }, (_, n) => Math.sin(n * 0.37) * 0.5 + ((n * 7919) % 13) / 100 - 0.06);
+      const meter = new LevelMeter({ sampleRate: 48000, totalFrames: frames, clipHi: 1, clipLo: -1, countCrossings: true });
+      for (let at = 0, k = 0; at < frames; k++) {
+        const to = at + Math.min(frames - at, meter.room(), [5, 480, 1, 77][k % 4]!);
+        meter.scanRun(x, at, to);
+        at = to;
+      }
+      const r = meter.result();
+      const P = Math.min(WAVEFORM_POINTS, frames);
+      const compact = (v: number) => Number(v.toPrecision(5));
+      for (let p = 0; p < P; p++) {
+        const part = x.subarray(Math.floor((p * frames) / P), Math.floor(((p + 1) * frames) / P));
+        expect(r.waveform.min[p]).toBe(compact(Math.min(...part)));
+        expect(r.waveform.max[p]).toBe(compact(Math.max(...part)));
+      }
+      let previous = 0;
+      for (let s = 0; s < ZCR_SEGMENTS; s++) {
+        const from = Math.floor((s * frames) / ZCR_SEGMENTS);
+        const part = x.subarray(from, Math.floor(((s + 1) * frames) / ZCR_SEGMENTS));
+        let crossings = 0;
+        let sq = 0;
+        for (const v of part) {
+          crossings += (v < 0 ? 1 : 0) ^ (previous < 0 ? 1 : 0);
+          previous = v;
+          sq += v * v;
+        }
+        expect(r.segments[s]!.samples).toBe(part.length);
+        expect(r.segments[s]!.crossings).toBe(crossings);
+        expect(r.segments[s]!.meanSquare).toBeCloseTo(part.length ? sq / part.length : 0, 12);
+      }
+    });
+  }
 });

@@ -102,3 +102,40 @@ describe('decoder against wavefile (independent reader) on our encoder’s files
     });
   }
 });
+
+describe('24-bit decoding: word-wise fast path and byte-wise path agree with wavefile', () => {
+  // Random bytes reach every code, including −2^23 and 2^23 − 1. Fed in uneven chunks, the data
+  // starts at 4-byte boundaries (the word path) and off them (the byte path), with frames split
+  // across chunks; mono and stereo have the word path, three channels only the byte path.
+  for (const channels of [1, 2, 3]) {
+    it(`${channels} channel(s), random codes, uneven chunks: same samples as wavefile`, () => {
+      const frames = 5003;
+      const bytes = encodeWav(Array.from({ length: channels }, () => new Float64Array(frames)), 48000, 24, { extensible: false });
+      const info = readWavInfo(bytes);
+      let seed = 12345 + channels;
+      for (let i = info.dataOffset; i < bytes.length; i++) {
+        seed = (seed * 1103515245 + 12345) >>> 0;
+        bytes[i] = seed >>> 24;
+      }
+      const theirs = new wavefile.WaveFile(bytes).getSamples(false, Float64Array) as unknown as Float64Array[] | Float64Array;
+      const reference = channels === 1 ? [theirs as Float64Array] : (theirs as Float64Array[]);
+      const ours = Array.from({ length: channels }, () => new Float64Array(frames));
+      const d = new FrameDecoder(info, (block, start, length) => block.forEach((b, c) => ours[c]!.set(b.subarray(0, length), start)), 1024);
+      const data = bytes.subarray(info.dataOffset);
+      for (let at = 0, k = 0; at < data.length; k++) {
+        const size = [4096, 7, 1, 2048, 13, 6000][k % 6]!;
+        // A fresh copy at offset 0 or 1 of its buffer, so the chunk's own alignment varies too.
+        const shift = k % 2;
+        const chunk = new Uint8Array(size + shift);
+        const piece = data.subarray(at, at + size);
+        chunk.set(piece, shift);
+        d.push(chunk.subarray(shift, shift + piece.length));
+        at += piece.length;
+      }
+      d.finish();
+      for (let c = 0; c < channels; c++) {
+        for (let n = 0; n < frames; n++) expect(ours[c]![n]).toBe(reference[c]![n]! / 8388608);
+      }
+    });
+  }
+});
