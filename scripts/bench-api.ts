@@ -2,7 +2,7 @@
  * `npm run bench:api`: load figures for the API on this machine, against a throwaway cluster with
  * the demo data (or BENCH_URL for a server already running with the demo data).
  *  1. 50 concurrent clients on the job list and on a job's detail route (autocannon): requests/s,
- *     p50 and p99 latency; target p99 < 100 ms.
+ *     p50 and p99 latency in three rounds; target: median p99 < 100 ms.
  *  2. 10 concurrent 50 MB WAV uploads, then the time until all are analysed.
  */
 import { execFile, execFileSync } from 'node:child_process';
@@ -52,22 +52,34 @@ interface CannonResult {
   non2xx: number;
 }
 
-/** autocannon runs in its own process, so the load generator does not share the server's thread. */
+const ROUNDS = 3;
+const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)]!;
+
+/**
+ * autocannon runs in its own process, so the load generator does not share the server's thread.
+ * Three measured rounds per route, each 10 s: on a shared two-core machine one round can land in
+ * a slow spell, so every round is shown and the target is judged on the median.
+ */
 async function load(url: string, cookie: string) {
   const cli = join(root, 'node_modules', 'autocannon', 'autocannon.js');
+  const run = async (seconds: number) => {
+    const { stdout } = await promisify(execFile)(process.execPath, [cli, '--json', '-c', '50', '-d', String(seconds), '-H', `cookie=${cookie}`, url], {
+      encoding: 'utf8',
+      maxBuffer: 64 * 1024 * 1024,
+    });
+    return JSON.parse(stdout) as CannonResult;
+  };
   // A short unreported run first, so the figures are the steady state rather than JIT warm-up.
-  await promisify(execFile)(process.execPath, [cli, '--json', '-c', '50', '-d', '3', '-H', `cookie=${cookie}`, url], { maxBuffer: 64 * 1024 * 1024 });
-  const { stdout: out } = await promisify(execFile)(process.execPath, [cli, '--json', '-c', '50', '-d', '10', '-H', `cookie=${cookie}`, url], {
-    encoding: 'utf8',
-    maxBuffer: 64 * 1024 * 1024,
-  });
-  const result = JSON.parse(out) as CannonResult;
+  await run(3);
+  const rounds: CannonResult[] = [];
+  for (let i = 0; i < ROUNDS; i++) rounds.push(await run(10));
   return {
     route: new URL(url).pathname,
-    requestsPerS: Math.round(result.requests.average),
-    p50Ms: result.latency.p50,
-    p99Ms: result.latency.p99,
-    errors: result.errors + result.non2xx,
+    requestsPerS: rounds.map((r) => Math.round(r.requests.average)).join(' / '),
+    p50Ms: rounds.map((r) => r.latency.p50).join(' / '),
+    p99Ms: rounds.map((r) => r.latency.p99).join(' / '),
+    medianP99Ms: median(rounds.map((r) => r.latency.p99)),
+    errors: rounds.reduce((n, r) => n + r.errors + r.non2xx, 0),
   };
 }
 
@@ -142,7 +154,7 @@ async function main() {
     const rows = [await load(`${base}/api/jobs`, auth.cookie), await load(`${base}/api/jobs/1`, auth.cookie)];
     console.table(rows);
     for (const r of rows) {
-      console.log(`${r.route}: p99 ${r.p99Ms} ms — ${r.p99Ms < P99_TARGET_MS ? 'within' : 'OVER'} the ${P99_TARGET_MS} ms target`);
+      console.log(`${r.route}: median p99 ${r.medianP99Ms} ms — ${r.medianP99Ms < P99_TARGET_MS ? 'within' : 'OVER'} the ${P99_TARGET_MS} ms target`);
     }
     if (process.argv.includes('--skip-uploads')) return;
     console.log('10 concurrent 50 MB uploads…');

@@ -24,6 +24,8 @@ import { measurementRoutes } from './routes/measurements';
 import { calibrationRoutes } from './routes/calibrations';
 import { recordingRoutes, signalRoutes } from './routes/recordings';
 import type { AnalysisQueue } from './services/analysis-queue';
+import { CachedSessionStore } from './services/cached-session-store';
+import { SignedInCache } from './services/signed-in-cache';
 import type { BillingRuntime } from './billing-runtime';
 import { billingRoutes, paymentWebhookRoutes } from './routes/payments';
 
@@ -43,16 +45,21 @@ const SESSION_HOURS = 12;
 export function createApp({ config, db, pool, queue, billing }: AppDeps): Express {
   const app = express();
   app.disable('x-powered-by');
+  app.set('etag', false);
   app.set('trust proxy', 'loopback');
   app.use(helmet({ contentSecurityPolicy: { directives: { 'img-src': ["'self'", 'data:', 'blob:'] } } }));
 
   app.use(cookieParser());
   const PgStore = connectPgSimple(session);
+  const signedIn = new SignedInCache(config.SIGNED_IN_CACHE_MS);
   app.use(
     session({
       name: SESSION_COOKIE,
       secret: config.SESSION_SECRET,
-      store: new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 600, disableTouch: true }),
+      store: new CachedSessionStore(
+        new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 600, disableTouch: true }),
+        signedIn,
+      ),
       resave: false,
       saveUninitialized: false,
       // A fixed 12-hour working-day session: no touch write on every request, which keeps reads cheap.
@@ -65,23 +72,29 @@ export function createApp({ config, db, pool, queue, billing }: AppDeps): Expres
   app.use(paymentWebhookRoutes(db, billing));
   const csrf = createCsrf(config.SESSION_SECRET, config.COOKIE_SECURE);
   const api = express.Router();
+  // API answers are one user's data at one moment: never stored by browsers or proxies, so no
+  // validators either (an ETag costs a hash of every body).
+  api.use((_req, res, next) => {
+    res.setHeader('Cache-Control', 'private, no-store');
+    next();
+  });
   api.use(express.json({ limit: '1mb' }));
   api.use('/health', healthRoutes(db));
   api.use(csrf.doubleCsrfProtection);
-  api.use(loadUser(db));
+  api.use(loadUser(db, signedIn));
   api.use('/auth', authRoutes(db, csrf));
   api.use(customerRoutes(db));
   api.use(jobRoutes(db));
   api.use(testPointRoutes(db));
   api.use(repairLogRoutes(db));
   api.use(specSheetRoutes(db));
-  api.use(userRoutes(db));
+  api.use(userRoutes(db, signedIn));
   api.use(captureRoutes(db, config, queue));
   api.use(measurementRoutes(db));
   api.use(calibrationRoutes(db));
   api.use(recordingRoutes(db, config, queue));
   api.use(signalRoutes());
-  api.use(billingRoutes(db, billing));
+  api.use(billingRoutes(db, billing, signedIn));
   api.use(apiNotFound);
   app.use('/api', api);
 

@@ -1,4 +1,5 @@
 import type { Server } from 'node:http';
+import type pg from 'pg';
 import type { Express } from 'express';
 import { loadConfig, type Config } from './config';
 import { createDb } from './db/client';
@@ -13,6 +14,19 @@ export interface RunningServer {
   url: string;
   app: Express;
   close(): Promise<void>;
+}
+
+/**
+ * Waits until no query has run for 100 ms (10 s at most): requests already under way when the
+ * server stops — their clients may have gone — finish before the pool closes under them.
+ */
+async function poolQuiet(pool: pg.Pool): Promise<void> {
+  let quietSince = Date.now();
+  for (const until = Date.now() + 10_000; Date.now() < until; ) {
+    if (pool.totalCount - pool.idleCount + pool.waitingCount > 0) quietSince = Date.now();
+    else if (Date.now() - quietSince >= 100) return;
+    await new Promise((r) => setTimeout(r, 20));
+  }
 }
 
 /** Migrates, then serves the API (and the built web app, when configured). */
@@ -40,6 +54,7 @@ export async function startServer(env: Record<string, string | undefined> = proc
     close: async () => {
       await new Promise<void>((resolve) => server.close(() => resolve()));
       server.closeAllConnections();
+      await poolQuiet(pool);
       await worker?.stop();
       await queue.stop();
       await billing.close();

@@ -3,13 +3,23 @@ import { ROLES, type Role } from '../../shared/roles';
 import type { Db } from '../db/client';
 import { HttpError } from '../http-error';
 import { loadSessionUser } from '../services/auth';
+import type { SignedInCache } from '../services/signed-in-cache';
 
-/** Reads the signed-in user fresh from the database, so a deactivated account stops at once. */
-export function loadUser(db: Db): RequestHandler {
+/**
+ * Puts the signed-in user on the request: read from the database, or from the signed-in cache,
+ * which this server empties for a user whenever it changes their role, password or standing, so
+ * a switched-off account stops at once.
+ */
+export function loadUser(db: Db, cache: SignedInCache): RequestHandler {
   return async (req, _res, next) => {
     const id = req.session?.userId;
     if (id) {
-      const user = await loadSessionUser(db, id);
+      let user = cache.user(id);
+      if (user === undefined) {
+        const generation = cache.generation;
+        user = await loadSessionUser(db, id);
+        cache.putUser(id, user, generation);
+      }
       if (user) req.user = user;
       else delete req.session.userId;
     }

@@ -7,6 +7,7 @@ import { outboxRoutes } from './outbox';
 import { portalRoutes } from './portal';
 import { quoteRoutes } from './quotes';
 import { shopSettingsRoutes } from './shop-settings';
+import type { SignedInCache } from '../services/signed-in-cache';
 
 /**
  * The payment provider's webhook. Mounted on the app before the API's JSON parser and CSRF check:
@@ -24,12 +25,12 @@ export function paymentWebhookRoutes(db: Db, runtime: BillingRuntime): Router {
 }
 
 /** Every billing route under /api: invoices, estimates, payments, outbox, settings, the customer's view. */
-export function billingRoutes(db: Db, runtime: BillingRuntime): Router {
+export function billingRoutes(db: Db, runtime: BillingRuntime, signedIn: SignedInCache): Router {
   const r = Router();
   r.use(invoiceRoutes(db, runtime));
   r.use(quoteRoutes(db, runtime));
   r.use(portalRoutes(db, runtime));
   r.use(outboxRoutes(db, runtime));
-  r.use(shopSettingsRoutes(db));
+  r.use(shopSettingsRoutes(db, signedIn));
   return r;
 }

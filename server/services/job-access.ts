@@ -1,4 +1,4 @@
-import { and, eq } from 'drizzle-orm';
+import { and, eq, type Placeholder } from 'drizzle-orm';
 import type { DbOrTx } from '../db/client';
 import { jobs } from '../db/schema/index';
 import type { SessionUser } from '../../shared/auth';
@@ -15,6 +15,14 @@ export interface JobRef {
 const refColumns = { id: jobs.id, shopId: jobs.shopId, customerId: jobs.customerId, unitId: jobs.unitId, status: jobs.status };
 
 /**
+ * The access rule as a condition: the job is in the viewer's shop and, for a customer, theirs.
+ * Values may be a prepared statement's placeholders.
+ */
+export function visibleJobCondition(customerOnly: boolean, shopId: number | Placeholder, jobId: number | Placeholder, customerId: number | Placeholder) {
+  return and(eq(jobs.shopId, shopId), eq(jobs.id, jobId), customerOnly ? eq(jobs.customerId, customerId) : undefined);
+}
+
+/**
  * The job if this viewer may see it: staff within their shop, a customer only their own.
  * Anything else is "not found", so ids of other shops or customers reveal nothing.
  */
@@ -22,13 +30,7 @@ export async function jobForViewer(db: DbOrTx, viewer: SessionUser, jobId: numbe
   const [row] = await db
     .select(refColumns)
     .from(jobs)
-    .where(
-      and(
-        eq(jobs.shopId, viewer.shop.id),
-        eq(jobs.id, jobId),
-        viewer.role === 'customer' ? eq(jobs.customerId, viewer.customerId ?? -1) : undefined,
-      ),
-    );
+    .where(visibleJobCondition(viewer.role === 'customer', viewer.shop.id, jobId, viewer.customerId ?? -1));
   if (!row) throw notFound('Job');
   return row;
 }

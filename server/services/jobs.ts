@@ -1,41 +1,40 @@
-import { and, asc, desc, eq, ilike, inArray, isNull, ne, or, sql, type SQL } from 'drizzle-orm';
+import { and, asc, desc, eq, ilike, inArray, isNull, ne, or, sql } from 'drizzle-orm';
 import { alias } from 'drizzle-orm/pg-core';
 import type { DbOrTx } from '../db/client';
 import { customers, jobEvents, jobs, shops, units, users } from '../db/schema/index';
 import { CUSTOMER_EVENT_KINDS, type JobDetail, type JobEvent, type JobListQuery, type JobSummary, type Technician } from '../../shared/jobs';
 import type { SessionUser } from '../../shared/auth';
 import { badRequest, notFound } from '../http-error';
-import { jobForViewer } from './job-access';
+import { visibleJobCondition } from './job-access';
+import { prepared } from '../db/prepared';
 
 export const jobReference = (id: number) => `J-${String(id).padStart(4, '0')}`;
 
 const technician = alias(users, 'technician');
 const like = (s: string) => `%${s.replace(/[%_\\]/g, (c) => `\\${c}`)}%`;
 
-function searchCondition(q: string): SQL | undefined {
-  if (!q) return undefined;
-  const pattern = like(q);
-  const ref = /^j-?0*(\d{1,9})$/i.exec(q);
-  return or(
-    ilike(sql`${units.maker} || ' ' || ${units.model}`, pattern),
-    ilike(units.serial, pattern),
-    ilike(customers.name, pattern),
-    ilike(jobs.reportedFault, pattern),
-    ref ? eq(jobs.id, Number(ref[1])) : undefined,
-  );
-}
-
 const DEFAULT_QUERY: JobListQuery = { q: '', sort: 'updated', dir: 'desc' };
 
-/**
- * The shop's jobs, filtered; a customer sees only their own. A technician's own queue comes
- * first, then the requested order.
- */
-export async function listJobs(db: DbOrTx, viewer: SessionUser, query: JobListQuery = DEFAULT_QUERY): Promise<JobSummary[]> {
-  const sortColumn = { updated: jobs.updatedAt, created: jobs.createdAt, stage: jobs.status }[query.sort];
-  const order = query.dir === 'asc' ? asc(sortColumn) : desc(sortColumn);
-  const ownFirst = viewer.role === 'technician' ? [sql`(${jobs.assignedTechnicianId} is distinct from ${viewer.id})`] : [];
-  const rows = await db
+/** What decides the list query's SQL text; the values themselves travel as parameters. */
+interface ListShape {
+  ownFirst: boolean;
+  customerOnly: boolean;
+  status: 'open' | 'one' | null;
+  technician: 'none' | 'one' | null;
+  customer: boolean;
+  search: 'text' | 'text-or-reference' | null;
+  sort: JobListQuery['sort'];
+  dir: JobListQuery['dir'];
+}
+
+const param = sql.placeholder;
+
+function buildList(db: DbOrTx, shape: ListShape, name: string) {
+  const sortColumn = { updated: jobs.updatedAt, created: jobs.createdAt, stage: jobs.status }[shape.sort];
+  const order = shape.dir === 'asc' ? asc(sortColumn) : desc(sortColumn);
+  const ownFirst = shape.ownFirst ? [sql`(${jobs.assignedTechnicianId} is distinct from ${param('viewerId')})`] : [];
+  const pattern = param('pattern');
+  return db
     .select({
       id: jobs.id,
       status: jobs.status,
@@ -55,19 +54,58 @@ export async function listJobs(db: DbOrTx, viewer: SessionUser, query: JobListQu
     .leftJoin(technician, eq(technician.id, jobs.assignedTechnicianId))
     .where(
       and(
-        eq(jobs.shopId, viewer.shop.id),
-        viewer.role === 'customer' ? eq(jobs.customerId, viewer.customerId ?? -1) : undefined,
-        query.status === 'open' ? ne(jobs.status, 'collected') : query.status ? eq(jobs.status, query.status) : undefined,
-        query.technicianId === 'none'
+        eq(jobs.shopId, param('shopId')),
+        shape.customerOnly ? eq(jobs.customerId, param('viewerCustomerId')) : undefined,
+        shape.status === 'open' ? ne(jobs.status, 'collected') : shape.status === 'one' ? eq(jobs.status, param('status')) : undefined,
+        shape.technician === 'none'
           ? isNull(jobs.assignedTechnicianId)
-          : query.technicianId
-            ? eq(jobs.assignedTechnicianId, query.technicianId)
+          : shape.technician === 'one'
+            ? eq(jobs.assignedTechnicianId, param('technicianId'))
             : undefined,
-        query.customerId ? eq(jobs.customerId, query.customerId) : undefined,
-        searchCondition(query.q),
+        shape.customer ? eq(jobs.customerId, param('customerId')) : undefined,
+        shape.search
+          ? or(
+              ilike(sql`${units.maker} || ' ' || ${units.model}`, pattern),
+              ilike(units.serial, pattern),
+              ilike(customers.name, pattern),
+              ilike(jobs.reportedFault, pattern),
+              shape.search === 'text-or-reference' ? eq(jobs.id, param('referenceId')) : undefined,
+            )
+          : undefined,
       ),
     )
-    .orderBy(...ownFirst, order, desc(jobs.id));
+    .orderBy(...ownFirst, order, desc(jobs.id))
+    .prepare(name);
+}
+
+/**
+ * The shop's jobs, filtered; a customer sees only their own. A technician's own queue comes
+ * first, then the requested order.
+ */
+export async function listJobs(db: DbOrTx, viewer: SessionUser, query: JobListQuery = DEFAULT_QUERY): Promise<JobSummary[]> {
+  const reference = query.q ? /^j-?0*(\d{1,9})$/i.exec(query.q) : null;
+  const shape: ListShape = {
+    ownFirst: viewer.role === 'technician',
+    customerOnly: viewer.role === 'customer',
+    status: query.status === 'open' ? 'open' : query.status ? 'one' : null,
+    technician: query.technicianId === 'none' ? 'none' : query.technicianId ? 'one' : null,
+    customer: Boolean(query.customerId),
+    search: !query.q ? null : reference ? 'text-or-reference' : 'text',
+    sort: query.sort,
+    dir: query.dir,
+  };
+  // The job list is the busiest read: one prepared statement per shape (a handful in practice).
+  const name = `jobs_list_${Object.values(shape).map(String).join('_')}`;
+  const rows = await prepared(db, name, (n) => buildList(db, shape, n)).execute({
+    shopId: viewer.shop.id,
+    viewerId: viewer.id,
+    viewerCustomerId: viewer.customerId ?? -1,
+    status: query.status,
+    technicianId: typeof query.technicianId === 'number' ? query.technicianId : null,
+    customerId: query.customerId ?? null,
+    pattern: query.q ? like(query.q) : null,
+    referenceId: reference ? Number(reference[1]) : null,
+  });
   return rows.map((r) => ({
     ...r,
     reference: jobReference(r.id),
@@ -76,8 +114,8 @@ export async function listJobs(db: DbOrTx, viewer: SessionUser, query: JobListQu
   }));
 }
 
-async function listEvents(db: DbOrTx, jobId: number, forCustomer: boolean): Promise<JobEvent[]> {
-  const rows = await db
+function buildEvents(db: DbOrTx, forCustomer: boolean, name: string) {
+  return db
     .select({
       id: jobEvents.id,
       kind: jobEvents.kind,
@@ -89,8 +127,14 @@ async function listEvents(db: DbOrTx, jobId: number, forCustomer: boolean): Prom
     })
     .from(jobEvents)
     .leftJoin(users, eq(users.id, jobEvents.userId))
-    .where(and(eq(jobEvents.jobId, jobId), forCustomer ? inArray(jobEvents.kind, [...CUSTOMER_EVENT_KINDS]) : undefined))
-    .orderBy(asc(jobEvents.at), asc(jobEvents.id));
+    .where(and(eq(jobEvents.jobId, param('jobId')), forCustomer ? inArray(jobEvents.kind, [...CUSTOMER_EVENT_KINDS]) : undefined))
+    .orderBy(asc(jobEvents.at), asc(jobEvents.id))
+    .prepare(name);
+}
+
+async function listEvents(db: DbOrTx, jobId: number, forCustomer: boolean): Promise<JobEvent[]> {
+  const name = forCustomer ? 'job_events_customer' : 'job_events_staff';
+  const rows = await prepared(db, name, (n) => buildEvents(db, forCustomer, n)).execute({ jobId });
   return rows.map((r) => ({
     ...r,
     // A stage change's note is written for colleagues; the customer sees the move itself.
@@ -99,10 +143,8 @@ async function listEvents(db: DbOrTx, jobId: number, forCustomer: boolean): Prom
   }));
 }
 
-/** One job with its unit, customer and trail, as this viewer may see it. */
-export async function getJobDetail(db: DbOrTx, viewer: SessionUser, jobId: number): Promise<JobDetail> {
-  await jobForViewer(db, viewer, jobId);
-  const [row] = await db
+function buildDetail(db: DbOrTx, customerOnly: boolean, name: string) {
+  return db
     .select({
       job: jobs,
       unit: { id: units.id, kind: units.kind, maker: units.maker, model: units.model, serial: units.serial },
@@ -115,7 +157,16 @@ export async function getJobDetail(db: DbOrTx, viewer: SessionUser, jobId: numbe
     .innerJoin(customers, eq(customers.id, jobs.customerId))
     .innerJoin(shops, eq(shops.id, jobs.shopId))
     .leftJoin(technician, eq(technician.id, jobs.assignedTechnicianId))
-    .where(eq(jobs.id, jobId));
+    .where(visibleJobCondition(customerOnly, param('shopId'), param('jobId'), param('customerId')))
+    .prepare(name);
+}
+
+/** One job with its unit, customer and trail, as this viewer may see it. */
+export async function getJobDetail(db: DbOrTx, viewer: SessionUser, jobId: number): Promise<JobDetail> {
+  // Access is checked in the same query that reads the job (the rule of jobForViewer).
+  const customerOnly = viewer.role === 'customer';
+  const detail = prepared(db, customerOnly ? 'job_detail_customer' : 'job_detail_staff', (n) => buildDetail(db, customerOnly, n));
+  const [row] = await detail.execute({ shopId: viewer.shop.id, jobId, customerId: viewer.customerId ?? -1 });
   if (!row) throw notFound('Job');
   const { job } = row;
   return {
@@ -131,7 +182,7 @@ export async function getJobDetail(db: DbOrTx, viewer: SessionUser, jobId: numbe
     assignedTechnician:
       job.assignedTechnicianId !== null && row.technicianName !== null ? { id: job.assignedTechnicianId, name: row.technicianName } : null,
     currency: row.currency,
-    events: await listEvents(db, jobId, viewer.role === 'customer'),
+    events: await listEvents(db, jobId, customerOnly),
     createdAt: job.createdAt.toISOString(),
     updatedAt: job.updatedAt.toISOString(),
   };
