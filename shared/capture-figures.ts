@@ -14,6 +14,14 @@ import { powerFromDbv } from './power';
 
 const num = z.number().nullable();
 
+export const sweepFiguresSchema = z.object({
+  startHz: z.number(),
+  endHz: z.number(),
+  referenceHz: z.number(),
+  channels: z.array(z.object({ channel: z.number().int(), frequencyHz: z.array(z.number()), responseDb: z.array(z.number()) })),
+});
+export type SweepFigures = z.infer<typeof sweepFiguresSchema>;
+
 export const captureFiguresSchema = z.object({
   stimulus: stimulusSchema,
   drivenChannel: z.number().int().nullable(),
@@ -43,6 +51,9 @@ export const captureFiguresSchema = z.object({
   /** Output power across the stated dummy load from the calibrated RMS level, P = V²/R. */
   powerW: num,
   loadOhms: num,
+  /** A log-sweep capture's response per channel (the driven one when known), in dB relative to
+   *  referenceHz. Optional: figures stored before it was added lack it. */
+  response: sweepFiguresSchema.nullable().optional(),
 });
 export type CaptureFigures = z.infer<typeof captureFiguresSchema>;
 
@@ -98,7 +109,18 @@ export function figuresFromResult(result: AnalysisResult, options: { loadOhms: n
     clicksChannel: clicksChannel && clicksChannel.clicks.count > 0 ? clicksChannel.index : null,
     separationDb: separation?.db ?? null,
     separationNoiseLimited: separation?.noiseLimited ?? false,
-    powerW: powerFromDbv(levelDbv, options.loadOhms),
+    // Power is a steady sine's: the noise or a sweep across the load is not an output power.
+    powerW: result.stimulus === 'tone' ? powerFromDbv(levelDbv, options.loadOhms) : null,
     loadOhms: options.loadOhms,
+    response: result.sweep
+      ? {
+          startHz: result.sweep.startHz,
+          endHz: result.sweep.endHz,
+          referenceHz: result.sweep.referenceHz,
+          channels: result.sweep.channels
+            .filter((c) => result.drivenChannel === null || c.channel === result.drivenChannel)
+            .map(({ channel, frequencyHz, responseDb }) => ({ channel, frequencyHz, responseDb })),
+        }
+      : null,
   };
 }

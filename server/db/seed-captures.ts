@@ -1,7 +1,8 @@
 /**
  * Demo captures on the demo amplifier job: the synthetic WAVs from samples-synthetic/ stored as a
  * technician would upload them — clean at the input socket, crackle and poor separation at the
- * selector output before the repair, clean there after it. They are left 'queued': the analysis
+ * selector output before the repair, clean there after it, and the residual noise at the speaker
+ * terminals after it (for the SNR check). They are left 'queued': the analysis
  * worker finds queued captures without a job when it starts, so a new user sees results at once.
  */
 import { createHash, randomBytes } from 'node:crypto';
@@ -26,12 +27,30 @@ interface DemoCapture {
   phase: 'before' | 'after';
   hoursAgo: number;
   notes: string;
+  stimulus: 'tone' | 'silence';
+  drivenChannel: number | null;
+  /** Which demo calibration profile: the ×1 line-level probe or the ×10 probe for the speaker terminals. */
+  calibration: 'line' | 'speaker';
+  loadOhms: number | null;
 }
 
+const TONE = { stimulus: 'tone', drivenChannel: 0, calibration: 'line', loadOhms: null } as const;
+
 export const DEMO_CAPTURES: readonly DemoCapture[] = [
-  { file: 'demo-before-input-socket.wav', position: 1, phase: 'before', hoursAgo: 46, notes: 'Disc input, 1 kHz tone in the left channel, volume at minimum.' },
-  { file: 'demo-before-selector-out.wav', position: 2, phase: 'before', hoursAgo: 45, notes: 'Same tone, probe on the selector IC output pins. Crackle audible on the tracer.' },
-  { file: 'demo-after-selector-out.wav', position: 2, phase: 'after', hoursAgo: 2, notes: 'After replacing IC301, same set-up as before.' },
+  { file: 'demo-before-input-socket.wav', position: 1, phase: 'before', hoursAgo: 46, notes: 'Disc input, 1 kHz tone in the left channel, volume at minimum.', ...TONE },
+  { file: 'demo-before-selector-out.wav', position: 2, phase: 'before', hoursAgo: 45, notes: 'Same tone, probe on the selector IC output pins. Crackle audible on the tracer.', ...TONE },
+  { file: 'demo-after-selector-out.wav', position: 2, phase: 'after', hoursAgo: 2, notes: 'After replacing IC301, same set-up as before.', ...TONE },
+  {
+    file: 'silence-noise-floor.wav',
+    position: 5,
+    phase: 'after',
+    hoursAgo: 1,
+    notes: 'Residual noise across the 8 Ω dummy load, line input shorted, volume at minimum: the SNR check.',
+    stimulus: 'silence',
+    drivenChannel: null,
+    calibration: 'speaker',
+    loadOhms: 8,
+  },
 ];
 
 /** Test points of the demo job at the template positions; made from the template if missing. */
@@ -68,17 +87,28 @@ export function seedCaptures(filesDir: string): DemoExtension {
     const { shopId } = ids;
     const jobId = ids.jobIds[0]!;
     const points = await demoTestPoints(tx, shopId, jobId);
-    const [calibration] = await tx
+    const [line, speaker] = await tx
       .insert(calibrationProfiles)
-      .values({
-        shopId,
-        name: 'Bench interface, line in, ×1 probe',
-        voltsAtFullScale: 1.55,
-        probeAttenuation: 1,
-        notes: 'Checked against the bench meter with a 1 kHz sine (demo figures).',
-        createdBy: ids.users.technician,
-      })
+      .values([
+        {
+          shopId,
+          name: 'Bench interface, line in, ×1 probe',
+          voltsAtFullScale: 1.55,
+          probeAttenuation: 1,
+          notes: 'Checked against the bench meter with a 1 kHz sine (demo figures).',
+          createdBy: ids.users.technician,
+        },
+        {
+          shopId,
+          name: 'Bench interface, line in, ×10 probe (speaker terminals)',
+          voltsAtFullScale: 1.55,
+          probeAttenuation: 10,
+          notes: 'The ×1 profile through the 10:1 probe; checked at 10 V RMS on the bench meter (demo figures).',
+          createdBy: ids.users.technician,
+        },
+      ])
       .returning({ id: calibrationProfiles.id });
+    const calibrationIds = { line: line!.id, speaker: speaker!.id };
     const now = Date.now();
     for (const demo of DEMO_CAPTURES) {
       const { bytes, info, sha256 } = await storeSample(filesDir, demo.file);
@@ -87,9 +117,10 @@ export function seedCaptures(filesDir: string): DemoExtension {
         jobId,
         testPointId: points.get(demo.position) ?? null,
         phase: demo.phase,
-        stimulus: 'tone',
-        drivenChannel: 0,
-        calibrationId: calibration!.id,
+        stimulus: demo.stimulus,
+        drivenChannel: demo.drivenChannel,
+        calibrationId: calibrationIds[demo.calibration],
+        loadOhms: demo.loadOhms,
         originalName: demo.file,
         sha256,
         sizeBytes: bytes.length,

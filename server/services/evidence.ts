@@ -119,7 +119,7 @@ function specRows(stages: EvidenceStage[], published: Parameters<typeof checkFig
     let chosen: (SpecCheckRow & { stage: string }) | null = null;
     for (const s of stages) {
       if (!s.after?.figures) continue;
-      const [row] = checkFiguresAgainstSpec(s.after.figures, [figure]);
+      const [row] = checkFiguresAgainstSpec(s.after.figures, [figure], published);
       if (row && (row.measured !== null || !chosen)) chosen = { ...row, stage: s.name };
     }
     out.push(

@@ -1,4 +1,4 @@
-import { onBeforeUnmount, ref, readonly } from 'vue';
+import { onBeforeUnmount, ref, readonly, shallowReadonly } from 'vue';
 import type { CaptureSummary } from '@shared/captures';
 import { capturesApi } from '@/api/captures';
 import { errorText } from './useBusy';
@@ -39,5 +39,5 @@ export function useCapturePolling(jobId: () => number, onSettled: () => void) {
     stopped = true;
     if (timer) clearTimeout(timer);
   });
-  return { captures: readonly(captures), error: readonly(error), loaded: readonly(loaded), refresh };
+  return { captures: shallowReadonly(captures), error: readonly(error), loaded: readonly(loaded), refresh };
 }

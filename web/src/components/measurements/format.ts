@@ -5,7 +5,7 @@ import type { Verdict } from '@shared/compare';
 // and an em dash for "not measured".
 
 export const NONE = '—';
-const minus = (s: string) => s.replace(/^-/, '−');
+export const minus = (s: string) => s.replace(/^-/, '−');
 
 export function fmtNumber(v: number | null | undefined, digits = 1): string {
   if (v === null || v === undefined || !Number.isFinite(v)) return NONE;
