@@ -121,7 +121,7 @@ export async function checkUpload(db: DbOrTx, shopId: number, jobId: number, fil
  * storage are removed again (unless another capture has meanwhile stored the same content).
  */
 export async function storeCaptures(
-  db: Db,
+  db: DbOrTx,
   queue: AnalysisQueue,
   filesDir: string,
   ctx: { shopId: number; jobId: number; userId: number },
@@ -169,6 +169,14 @@ export async function storeCaptures(
   }
 }
 
+/** After a transaction that stored files was rolled back: drops those no capture refers to. */
+export async function removeStoredIfUnreferenced(db: Db, filesDir: string, sha256s: string[]): Promise<void> {
+  await removeUnreferenced(
+    db,
+    sha256s.map((sha256) => ({ sha256, path: storagePath(filesDir, sha256) })),
+  );
+}
+
 /**
  * Stored files are shared by every capture with the same content. Whoever adds or removes a
  * file holds this lock until its transaction ends, so a delete never unlinks a file that a
@@ -178,7 +186,7 @@ async function lockContent(tx: DbOrTx, sha256: string): Promise<void> {
   await tx.execute(sql`select pg_advisory_xact_lock(hashtext(${sha256}))`);
 }
 
-async function removeUnreferenced(db: Db, files: { sha256: string; path: string }[]): Promise<void> {
+async function removeUnreferenced(db: DbOrTx, files: { sha256: string; path: string }[]): Promise<void> {
   for (const f of files) {
     await db.transaction(async (tx) => {
       await lockContent(tx, f.sha256);

@@ -18,7 +18,7 @@ import { calibrationProfiles, jobs, recordings, testPoints, units, users } from 
 import { HttpError, badRequest, conflict, notFound } from '../http-error';
 import type { AnalysisQueue } from './analysis-queue';
 import { HEAD_BYTES, removeQuietly, tempDir } from './capture-storage';
-import { checkUpload, storeCaptures, type StagedFile } from './captures';
+import { checkUpload, removeStoredIfUnreferenced, storeCaptures, type StagedFile } from './captures';
 import { jobInShop } from './job-access';
 
 // Live-bench recordings: chunks arrive numbered and are kept one file each under
@@ -258,32 +258,43 @@ export interface FinishOutcome {
  */
 export async function finishRecording(db: Db, queue: AnalysisQueue, filesDir: string, user: SessionUser, id: number): Promise<FinishOutcome> {
   const shopId = user.shop.id;
-  const outcome = await db.transaction(async (tx) => {
-    const rec = await lockRecording(tx, shopId, id);
-    if (rec.state === 'finished') {
-      if (rec.captureId === null) throw conflict('This recording was saved as a capture that has since been deleted');
-      return { captureId: rec.captureId, created: false };
-    }
-    if (rec.chunkCount === 0) throw badRequest('Nothing has been recorded yet');
-    const staged = await assembleWav(filesDir, rec);
-    try {
-      const meta = {
-        testPointId: rec.testPointId,
-        phase: rec.phase,
-        stimulus: rec.stimulus,
-        drivenChannel: rec.drivenChannel,
-        calibrationId: rec.calibrationId,
-        loadOhms: rec.loadOhms,
-        notes: rec.notes,
-      };
-      const checked = await checkUpload(tx, shopId, rec.jobId, [staged], [meta]);
-      const [captureId] = await storeCaptures(db, queue, filesDir, { shopId, jobId: rec.jobId, userId: user.id }, checked);
-      await tx.update(recordings).set({ state: 'finished', captureId: captureId!, updatedAt: new Date() }).where(eq(recordings.id, id));
-      return { captureId: captureId!, created: true };
-    } finally {
-      await removeQuietly(staged.tempPath);
-    }
-  });
+  // One transaction for the capture, its queued analysis and the recording's new state: a crash
+  // or error part-way leaves the recording open and no capture, so finishing again makes one.
+  let storedSha: string | null = null;
+  let outcome: FinishOutcome;
+  try {
+    outcome = await db.transaction(async (tx) => {
+      const rec = await lockRecording(tx, shopId, id);
+      if (rec.state === 'finished') {
+        if (rec.captureId === null) throw conflict('This recording was saved as a capture that has since been deleted');
+        return { captureId: rec.captureId, created: false };
+      }
+      if (rec.chunkCount === 0) throw badRequest('Nothing has been recorded yet');
+      const staged = await assembleWav(filesDir, rec);
+      try {
+        const meta = {
+          testPointId: rec.testPointId,
+          phase: rec.phase,
+          stimulus: rec.stimulus,
+          drivenChannel: rec.drivenChannel,
+          calibrationId: rec.calibrationId,
+          loadOhms: rec.loadOhms,
+          notes: rec.notes,
+        };
+        const checked = await checkUpload(tx, shopId, rec.jobId, [staged], [meta]);
+        const [captureId] = await storeCaptures(tx, queue, filesDir, { shopId, jobId: rec.jobId, userId: user.id }, checked);
+        storedSha = checked[0]!.file.sha256;
+        await tx.update(recordings).set({ state: 'finished', captureId: captureId!, updatedAt: new Date() }).where(eq(recordings.id, id));
+        return { captureId: captureId!, created: true };
+      } finally {
+        await removeQuietly(staged.tempPath);
+      }
+    });
+  } catch (err) {
+    // Rolled back after the file was stored: no capture refers to it now (unless another does).
+    if (storedSha) await removeStoredIfUnreferenced(db, filesDir, [storedSha]);
+    throw err;
+  }
   if (outcome.created) await rm(recordingDir(filesDir, id), { recursive: true, force: true });
   return outcome;
 }

@@ -12,6 +12,8 @@ import { makeShop, TEST_PASSWORD } from '../support/factories';
 import { makeBenchJob, waitForAnalysis } from '../support/captures';
 import { addClick, analyzeWavBytes, encodeSamples, encodeWav, generateSine } from '../../analysis/index';
 import { recordingDir } from '../../server/services/recordings';
+import { storagePath } from '../../server/services/capture-storage';
+import { sql } from 'drizzle-orm';
 import { renderSignalWav, signalRequestSchema } from '../../shared/signals';
 import type { ChunkReceipt, RecordingFinished, RecordingOpenInput, RecordingSummary } from '../../shared/recordings';
 import type { CaptureSummary } from '../../shared/captures';
@@ -126,6 +128,46 @@ describe('streaming a recording and saving it as a capture', () => {
     expect((await putBytes(tech, `/api/recordings/${id}/chunks/4`, pcm24(ch, 0, 10))).status).toBe(409);
     expect((await tech.del(`/api/recordings/${id}`)).status).toBe(409);
     expect((await tech.get<RecordingSummary[]>(`/api/recordings?jobId=${job.jobId}`)).body).toEqual([]);
+  });
+
+  it('a finish that fails part-way leaves no capture and no file; finishing again makes exactly one', async () => {
+    const job = await makeBenchJob(db);
+    const opened = await open(tech, {
+      jobId: job.jobId,
+      testPointId: job.testPointIds[0]!,
+      phase: 'before',
+      stimulus: 'tone',
+      drivenChannel: 0,
+      sampleRate: FS,
+      channels: 2,
+      format: 'pcm24',
+      plannedSeconds: 1,
+    });
+    const id = opened.body.id;
+    // A sound of its own, so its stored file is not shared with any other capture.
+    const ch = generateSine({ sampleRate: FS, seconds: 1, channels: 2, frequencyHz: 613 + (id % 97), levelDbfs: -17, drivenChannels: [0] });
+    expect((await putBytes(tech, `/api/recordings/${id}/chunks/0`, pcm24(ch, 0, FS))).status).toBe(200);
+    const fileSha = sha(encodeWav(ch, FS, 24));
+    // The fault: PostgreSQL refuses the recording's last write, after the capture row, its queued
+    // analysis and the stored file have been made in the same transaction.
+    await db.execute(sql.raw(`
+      create function refuse_finish_${id}() returns trigger language plpgsql as $$
+      begin if new.id = ${id} and new.state = 'finished' then raise exception 'injected fault'; end if; return new; end $$;
+      create trigger refuse_finish_${id} before update on recordings for each row execute function refuse_finish_${id}();`));
+    try {
+      const failed = await tech.post(`/api/recordings/${id}/finish`);
+      expect(failed.status).toBe(500);
+      expect((await tech.get<RecordingSummary>(`/api/recordings/${id}`)).body.state).toBe('open');
+      expect((await tech.get<CaptureSummary[]>(`/api/jobs/${job.jobId}/captures`)).body).toEqual([]);
+      expect(existsSync(storagePath(filesDir, fileSha))).toBe(false);
+    } finally {
+      await db.execute(sql.raw(`drop trigger refuse_finish_${id} on recordings; drop function refuse_finish_${id}();`));
+    }
+    const finished = await tech.post<RecordingFinished>(`/api/recordings/${id}/finish`);
+    expect(finished.status).toBe(201);
+    expect(finished.body.capture.sha256).toBe(fileSha);
+    expect((await tech.get<CaptureSummary[]>(`/api/jobs/${job.jobId}/captures`)).body.map((c) => c.id)).toEqual([finished.body.capture.id]);
+    expect(existsSync(storagePath(filesDir, fileSha))).toBe(true);
   });
 
   it('refuses chunks out of order, with other bytes, of broken frames or of the wrong type', async () => {
