@@ -111,6 +111,7 @@ export const JOB_EVENT_KIND_LABELS: Record<string, string> = {
   fault_found: 'Fault found',
   assigned: 'Technician',
   edited: 'Intake details edited',
+  repair_log: 'Repair log',
 };
 /** What a customer may see of the trail; status notes and staff notes stay in the shop. */
 export const CUSTOMER_EVENT_KINDS: readonly string[] = ['status', 'customer_note'];

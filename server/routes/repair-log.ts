@@ -16,8 +16,8 @@ import { bias, parts, rails } from '../services/repair-log';
 interface LogService<Row, Input, Update> {
   list(db: DbOrTx, shopId: number, jobId: number): Promise<Row[]>;
   create(db: DbOrTx, shopId: number, userId: number, jobId: number, input: Input): Promise<Row>;
-  update(db: DbOrTx, shopId: number, id: number, input: Update): Promise<Row>;
-  remove(db: DbOrTx, shopId: number, id: number): Promise<void>;
+  update(db: DbOrTx, shopId: number, userId: number, id: number, input: Update): Promise<Row>;
+  remove(db: DbOrTx, shopId: number, userId: number, id: number): Promise<void>;
 }
 
 /** The repair log: technicians and the owner write, the desk reads (to quote and invoice). */
@@ -43,10 +43,10 @@ export function repairLogRoutes(db: Db): Router {
     });
     r.patch(`/${path}/:id`, bench, async (req, res) => {
       const id = idParam(req.params.id, what);
-      res.json(await svc.update(db, me(req).shop.id, id, parse(update, req.body)));
+      res.json(await svc.update(db, me(req).shop.id, me(req).id, id, parse(update, req.body)));
     });
     r.delete(`/${path}/:id`, bench, async (req, res) => {
-      await svc.remove(db, me(req).shop.id, idParam(req.params.id, what));
+      await svc.remove(db, me(req).shop.id, me(req).id, idParam(req.params.id, what));
       res.status(204).end();
     });
   }

@@ -16,18 +16,27 @@ const like = (s: string) => `%${s.replace(/[%_\\]/g, (c) => `\\${c}`)}%`;
 const DEFAULT_QUERY: JobListQuery = { q: '', sort: 'updated', dir: 'desc' };
 
 /** What decides the list query's SQL text; the values themselves travel as parameters. */
-interface ListShape {
+export interface ListShape {
   ownFirst: boolean;
   customerOnly: boolean;
-  status: 'open' | 'one' | null;
-  technician: 'none' | 'one' | null;
+  status: 'open' | 'stage' | null;
+  technician: 'unassigned' | 'one' | null;
   customer: boolean;
-  search: 'text' | 'text-or-reference' | null;
+  search: 'text' | 'reference' | null;
   sort: JobListQuery['sort'];
   dir: JobListQuery['dir'];
 }
 
 const param = sql.placeholder;
+
+/**
+ * The prepared statement's name for a shape. PostgreSQL keeps 63 characters of a name, so one
+ * letter per part: the values of each part start with different letters.
+ */
+export function listStatementName(shape: ListShape): string {
+  const letter = (v: string | boolean | null) => (v === null ? 'x' : v === true ? 'y' : v === false ? 'n' : v.charAt(0));
+  return `jobs_list_${Object.values(shape).map(letter).join('')}`;
+}
 
 function buildList(db: DbOrTx, shape: ListShape, name: string) {
   const sortColumn = { updated: jobs.updatedAt, created: jobs.createdAt, stage: jobs.status }[shape.sort];
@@ -56,8 +65,8 @@ function buildList(db: DbOrTx, shape: ListShape, name: string) {
       and(
         eq(jobs.shopId, param('shopId')),
         shape.customerOnly ? eq(jobs.customerId, param('viewerCustomerId')) : undefined,
-        shape.status === 'open' ? ne(jobs.status, 'collected') : shape.status === 'one' ? eq(jobs.status, param('status')) : undefined,
-        shape.technician === 'none'
+        shape.status === 'open' ? ne(jobs.status, 'collected') : shape.status === 'stage' ? eq(jobs.status, param('status')) : undefined,
+        shape.technician === 'unassigned'
           ? isNull(jobs.assignedTechnicianId)
           : shape.technician === 'one'
             ? eq(jobs.assignedTechnicianId, param('technicianId'))
@@ -69,7 +78,7 @@ function buildList(db: DbOrTx, shape: ListShape, name: string) {
               ilike(units.serial, pattern),
               ilike(customers.name, pattern),
               ilike(jobs.reportedFault, pattern),
-              shape.search === 'text-or-reference' ? eq(jobs.id, param('referenceId')) : undefined,
+              shape.search === 'reference' ? eq(jobs.id, param('referenceId')) : undefined,
             )
           : undefined,
       ),
@@ -87,15 +96,16 @@ export async function listJobs(db: DbOrTx, viewer: SessionUser, query: JobListQu
   const shape: ListShape = {
     ownFirst: viewer.role === 'technician',
     customerOnly: viewer.role === 'customer',
-    status: query.status === 'open' ? 'open' : query.status ? 'one' : null,
-    technician: query.technicianId === 'none' ? 'none' : query.technicianId ? 'one' : null,
+    status: query.status === 'open' ? 'open' : query.status ? 'stage' : null,
+    technician: query.technicianId === 'none' ? 'unassigned' : query.technicianId ? 'one' : null,
     customer: Boolean(query.customerId),
-    search: !query.q ? null : reference ? 'text-or-reference' : 'text',
+    // 'reference': text search, or the job reference the text also reads as.
+    search: !query.q ? null : reference ? 'reference' : 'text',
     sort: query.sort,
     dir: query.dir,
   };
   // The job list is the busiest read: one prepared statement per shape (a handful in practice).
-  const name = `jobs_list_${Object.values(shape).map(String).join('_')}`;
+  const name = listStatementName(shape);
   const rows = await prepared(db, name, (n) => buildList(db, shape, n)).execute({
     shopId: viewer.shop.id,
     viewerId: viewer.id,

@@ -1,6 +1,6 @@
 import { and, asc, eq } from 'drizzle-orm';
 import type { DbOrTx } from '../db/client';
-import { biasReadings, partsUsed, railChecks } from '../db/schema/index';
+import { biasReadings, jobEvents, partsUsed, railChecks } from '../db/schema/index';
 import {
   biasWithin,
   lineTotalMinor,
@@ -18,7 +18,8 @@ import {
 import { notFound } from '../http-error';
 import { jobInShop } from './job-access';
 
-// Parts used, rail checks and bias readings: one row each, always reached through the shop.
+// Parts used, rail checks and bias readings: one row each, always reached through the shop, and
+// each change is written to the job's trail in the same transaction.
 // The within/outside verdicts are computed on read from shared/repair-log.ts, never stored,
 // so a changed tolerance cannot leave a stale verdict behind.
 
@@ -64,6 +65,20 @@ const toBias = (r: typeof biasReadings.$inferSelect): Bias => ({
   createdAt: r.createdAt.toISOString(),
 });
 
+/** One line in the job's trail for each repair-log change, written in the change's transaction. */
+async function logToTrail(tx: DbOrTx, shopId: number, jobId: number, userId: number, note: string): Promise<void> {
+  await tx.insert(jobEvents).values({ shopId, jobId, userId, kind: 'repair_log', note });
+}
+
+const mv = (v: number | null) => (v === null ? '—' : `${v} mV`);
+const partText = (p: Part) => `${p.reference ? `${p.reference}: ` : ''}${p.description}${p.partNumber ? ` (${p.partNumber})` : ''} × ${p.quantity}`;
+const railText = (r: Rail) => `${r.rail} measured ${r.measuredV} V against ${r.nominalV} V ± ${r.tolerancePct} % — ${r.within ? 'within' : 'outside'}`;
+const biasText = (b: Bias) => {
+  const reading = b.finalMv !== null ? `final ${mv(b.finalMv)}` : b.warmMv !== null ? `warm ${mv(b.warmMv)}` : `cold ${mv(b.coldMv)}`;
+  const within = b.finalMv !== null ? b.finalWithin : b.warmMv !== null ? b.warmWithin : b.coldWithin;
+  return `channel ${b.channel}${b.testPoint ? ` at ${b.testPoint}` : ''}: ${reading} against ${b.targetMv} ± ${b.toleranceMv} mV${within === null ? '' : within ? ' — within' : ' — outside'}`;
+};
+
 export const parts = {
   async list(db: DbOrTx, shopId: number, jobId: number): Promise<Part[]> {
     await jobInShop(db, shopId, jobId);
@@ -71,18 +86,29 @@ export const parts = {
     return rows.map(toPart);
   },
   async create(db: DbOrTx, shopId: number, userId: number, jobId: number, input: PartInput): Promise<Part> {
-    await jobInShop(db, shopId, jobId);
-    const [row] = await db.insert(partsUsed).values({ ...input, shopId, jobId, createdBy: userId }).returning();
-    return toPart(row!);
+    return db.transaction(async (tx) => {
+      await jobInShop(tx, shopId, jobId);
+      const [row] = await tx.insert(partsUsed).values({ ...input, shopId, jobId, createdBy: userId }).returning();
+      const part = toPart(row!);
+      await logToTrail(tx, shopId, jobId, userId, `Part added — ${partText(part)}`);
+      return part;
+    });
   },
-  async update(db: DbOrTx, shopId: number, id: number, input: PartUpdate): Promise<Part> {
-    const [row] = await db.update(partsUsed).set(input).where(and(eq(partsUsed.shopId, shopId), eq(partsUsed.id, id))).returning();
-    if (!row) throw notFound('Part');
-    return toPart(row);
+  async update(db: DbOrTx, shopId: number, userId: number, id: number, input: PartUpdate): Promise<Part> {
+    return db.transaction(async (tx) => {
+      const [row] = await tx.update(partsUsed).set(input).where(and(eq(partsUsed.shopId, shopId), eq(partsUsed.id, id))).returning();
+      if (!row) throw notFound('Part');
+      const part = toPart(row);
+      await logToTrail(tx, shopId, row.jobId, userId, `Part changed — ${partText(part)}`);
+      return part;
+    });
   },
-  async remove(db: DbOrTx, shopId: number, id: number): Promise<void> {
-    const gone = await db.delete(partsUsed).where(and(eq(partsUsed.shopId, shopId), eq(partsUsed.id, id))).returning({ id: partsUsed.id });
-    if (!gone.length) throw notFound('Part');
+  async remove(db: DbOrTx, shopId: number, userId: number, id: number): Promise<void> {
+    await db.transaction(async (tx) => {
+      const [row] = await tx.delete(partsUsed).where(and(eq(partsUsed.shopId, shopId), eq(partsUsed.id, id))).returning();
+      if (!row) throw notFound('Part');
+      await logToTrail(tx, shopId, row.jobId, userId, `Part removed — ${partText(toPart(row))}`);
+    });
   },
 };
 
@@ -93,18 +119,29 @@ export const rails = {
     return rows.map(toRail);
   },
   async create(db: DbOrTx, shopId: number, userId: number, jobId: number, input: RailInput): Promise<Rail> {
-    await jobInShop(db, shopId, jobId);
-    const [row] = await db.insert(railChecks).values({ ...input, shopId, jobId, createdBy: userId }).returning();
-    return toRail(row!);
+    return db.transaction(async (tx) => {
+      await jobInShop(tx, shopId, jobId);
+      const [row] = await tx.insert(railChecks).values({ ...input, shopId, jobId, createdBy: userId }).returning();
+      const rail = toRail(row!);
+      await logToTrail(tx, shopId, jobId, userId, `Rail check added — ${railText(rail)}`);
+      return rail;
+    });
   },
-  async update(db: DbOrTx, shopId: number, id: number, input: RailUpdate): Promise<Rail> {
-    const [row] = await db.update(railChecks).set(input).where(and(eq(railChecks.shopId, shopId), eq(railChecks.id, id))).returning();
-    if (!row) throw notFound('Rail check');
-    return toRail(row);
+  async update(db: DbOrTx, shopId: number, userId: number, id: number, input: RailUpdate): Promise<Rail> {
+    return db.transaction(async (tx) => {
+      const [row] = await tx.update(railChecks).set(input).where(and(eq(railChecks.shopId, shopId), eq(railChecks.id, id))).returning();
+      if (!row) throw notFound('Rail check');
+      const rail = toRail(row);
+      await logToTrail(tx, shopId, row.jobId, userId, `Rail check changed — ${railText(rail)}`);
+      return rail;
+    });
   },
-  async remove(db: DbOrTx, shopId: number, id: number): Promise<void> {
-    const gone = await db.delete(railChecks).where(and(eq(railChecks.shopId, shopId), eq(railChecks.id, id))).returning({ id: railChecks.id });
-    if (!gone.length) throw notFound('Rail check');
+  async remove(db: DbOrTx, shopId: number, userId: number, id: number): Promise<void> {
+    await db.transaction(async (tx) => {
+      const [row] = await tx.delete(railChecks).where(and(eq(railChecks.shopId, shopId), eq(railChecks.id, id))).returning();
+      if (!row) throw notFound('Rail check');
+      await logToTrail(tx, shopId, row.jobId, userId, `Rail check removed — ${railText(toRail(row))}`);
+    });
   },
 };
 
@@ -115,17 +152,28 @@ export const bias = {
     return rows.map(toBias);
   },
   async create(db: DbOrTx, shopId: number, userId: number, jobId: number, input: BiasInput): Promise<Bias> {
-    await jobInShop(db, shopId, jobId);
-    const [row] = await db.insert(biasReadings).values({ ...input, shopId, jobId, createdBy: userId }).returning();
-    return toBias(row!);
+    return db.transaction(async (tx) => {
+      await jobInShop(tx, shopId, jobId);
+      const [row] = await tx.insert(biasReadings).values({ ...input, shopId, jobId, createdBy: userId }).returning();
+      const reading = toBias(row!);
+      await logToTrail(tx, shopId, jobId, userId, `Bias reading added — ${biasText(reading)}`);
+      return reading;
+    });
   },
-  async update(db: DbOrTx, shopId: number, id: number, input: BiasUpdate): Promise<Bias> {
-    const [row] = await db.update(biasReadings).set(input).where(and(eq(biasReadings.shopId, shopId), eq(biasReadings.id, id))).returning();
-    if (!row) throw notFound('Bias reading');
-    return toBias(row);
+  async update(db: DbOrTx, shopId: number, userId: number, id: number, input: BiasUpdate): Promise<Bias> {
+    return db.transaction(async (tx) => {
+      const [row] = await tx.update(biasReadings).set(input).where(and(eq(biasReadings.shopId, shopId), eq(biasReadings.id, id))).returning();
+      if (!row) throw notFound('Bias reading');
+      const reading = toBias(row);
+      await logToTrail(tx, shopId, row.jobId, userId, `Bias reading changed — ${biasText(reading)}`);
+      return reading;
+    });
   },
-  async remove(db: DbOrTx, shopId: number, id: number): Promise<void> {
-    const gone = await db.delete(biasReadings).where(and(eq(biasReadings.shopId, shopId), eq(biasReadings.id, id))).returning({ id: biasReadings.id });
-    if (!gone.length) throw notFound('Bias reading');
+  async remove(db: DbOrTx, shopId: number, userId: number, id: number): Promise<void> {
+    await db.transaction(async (tx) => {
+      const [row] = await tx.delete(biasReadings).where(and(eq(biasReadings.shopId, shopId), eq(biasReadings.id, id))).returning();
+      if (!row) throw notFound('Bias reading');
+      await logToTrail(tx, shopId, row.jobId, userId, `Bias reading removed — ${biasText(toBias(row))}`);
+    });
   },
 };

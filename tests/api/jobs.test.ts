@@ -6,7 +6,8 @@ import { makeShop, TEST_PASSWORD } from '../support/factories';
 import { bookJob, demoClients } from '../support/bench';
 import { jobs } from '../../server/db/schema/index';
 import type { RunningServer } from '../../server/main';
-import type { JobDetail, JobSummary } from '../../shared/jobs';
+import { JOB_SORTS, type JobDetail, type JobSummary } from '../../shared/jobs';
+import { listStatementName } from '../../server/services/jobs';
 import type { Role } from '../../shared/roles';
 import type { ApiClient as Client } from '../support/client';
 
@@ -229,5 +230,26 @@ describe('job list filters and order', () => {
     const res = await c.front_desk.get<JobSummary[]>(`/api/jobs?customerId=${a.customer.id}`);
     expect(res.status).toBe(200);
     expect(res.body.map((j) => j.id)).toEqual([a.id]);
+  });
+});
+
+describe('job list statements', () => {
+  it('every list shape has its own prepared-statement name within PostgreSQL’s 63 characters', () => {
+    const names = new Set<string>();
+    let shapes = 0;
+    for (const ownFirst of [true, false])
+      for (const customerOnly of [true, false])
+        for (const status of ['open', 'stage', null] as const)
+          for (const technician of ['unassigned', 'one', null] as const)
+            for (const customer of [true, false])
+              for (const search of ['text', 'reference', null] as const)
+                for (const sort of JOB_SORTS)
+                  for (const dir of ['asc', 'desc'] as const) {
+                    const name = listStatementName({ ownFirst, customerOnly, status, technician, customer, search, sort, dir });
+                    expect(name.length).toBeLessThanOrEqual(63);
+                    names.add(name);
+                    shapes++;
+                  }
+    expect(names.size).toBe(shapes);
   });
 });

@@ -6,6 +6,7 @@ import { makeShop, TEST_PASSWORD } from '../support/factories';
 import { bookJob, demoClients } from '../support/bench';
 import { biasReadings, partsUsed, railChecks } from '../../server/db/schema/index';
 import type { Bias, Part, Rail } from '../../shared/repair-log';
+import type { JobDetail } from '../../shared/jobs';
 import type { RunningServer } from '../../server/main';
 import type { Role } from '../../shared/roles';
 
@@ -115,6 +116,36 @@ describe('bias log', () => {
     for (const bad of [{ ...bias, targetMv: 0 }, { ...bias, toleranceMv: -1 }, { ...bias, warmUpMinutes: 2.5 }, { ...bias, channel: '' }]) {
       expect((await c.technician.post(`/api/jobs/${job.id}/bias`, bad)).status, JSON.stringify(bad)).toBe(400);
     }
+  });
+});
+
+describe('the job trail', () => {
+  it('each repair-log change is written to the trail, by whom; the customer does not see it', async () => {
+    const me = async (client: ApiClient) => (await client.get<{ user: { name: string; customerId: number | null } }>('/api/auth/me')).body.user;
+    const [tech, owner, customer] = [await me(c.technician), await me(c.owner), await me(c.customer)];
+    const job = await bookJob(c.front_desk, { customerId: customer.customerId! });
+    const p = await c.technician.post<Part>(`/api/jobs/${job.id}/parts`, part);
+    expect((await c.technician.patch(`/api/parts/${p.body.id}`, { quantity: 1 })).status).toBe(200);
+    const r = await c.technician.post<Rail>(`/api/jobs/${job.id}/rails`, rail);
+    const b = await c.owner.post<Bias>(`/api/jobs/${job.id}/bias`, bias);
+    expect((await c.technician.del(`/api/rails/${r.body.id}`)).status).toBe(204);
+    const detail = await c.technician.get<JobDetail>(`/api/jobs/${job.id}`);
+    const lines = detail.body.events.filter((e) => e.kind === 'repair_log').map((e) => [e.userName, e.note]);
+    expect(lines).toEqual([
+      [tech.name, 'Part added — IC301: Selector IC (QS-7318X) × 2'],
+      [tech.name, 'Part changed — IC301: Selector IC (QS-7318X) × 1'],
+      // 36.75 V against 35 V is +5.0 %: on the edge of ±5 %, within.
+      [tech.name, 'Rail check added — +B main measured 36.75 V against 35 V ± 5 % — within'],
+      [owner.name, 'Bias reading added — channel Left at TP501: final 10.4 mV against 10 ± 2 mV — within'],
+      [tech.name, 'Rail check removed — +B main measured 36.75 V against 35 V ± 5 % — within'],
+    ]);
+    expect(b.status).toBe(201);
+    // A failed change writes nothing to the trail either.
+    expect((await c.technician.patch(`/api/parts/${p.body.id}`, { quantity: -1 })).status).toBe(400);
+    expect((await c.technician.get<JobDetail>(`/api/jobs/${job.id}`)).body.events.filter((e) => e.kind === 'repair_log')).toHaveLength(5);
+    const seen = await c.customer.get<JobDetail>(`/api/jobs/${job.id}`);
+    expect(seen.status).toBe(200);
+    expect(seen.body.events.map((e) => e.kind)).not.toContain('repair_log');
   });
 });
 
