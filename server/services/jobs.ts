@@ -124,34 +124,20 @@ export async function listJobs(db: DbOrTx, viewer: SessionUser, query: JobListQu
   }));
 }
 
-function buildEvents(db: DbOrTx, forCustomer: boolean, name: string) {
-  return db
-    .select({
-      id: jobEvents.id,
-      kind: jobEvents.kind,
-      fromStatus: jobEvents.fromStatus,
-      toStatus: jobEvents.toStatus,
-      note: jobEvents.note,
-      at: jobEvents.at,
-      userName: users.name,
-    })
-    .from(jobEvents)
-    .leftJoin(users, eq(users.id, jobEvents.userId))
-    .where(and(eq(jobEvents.jobId, param('jobId')), forCustomer ? inArray(jobEvents.kind, [...CUSTOMER_EVENT_KINDS]) : undefined))
-    .orderBy(asc(jobEvents.at), asc(jobEvents.id))
-    .prepare(name);
+/** The job's trail as one JSON array, read in the same query as the job (one round trip). */
+function trailOf(forCustomer: boolean) {
+  const kinds = forCustomer ? sql`and ${inArray(jobEvents.kind, [...CUSTOMER_EVENT_KINDS])}` : sql``;
+  return sql<TrailRow[]>`(
+    select coalesce(json_agg(json_build_object(
+      'id', ${jobEvents.id}, 'kind', ${jobEvents.kind}, 'fromStatus', ${jobEvents.fromStatus}, 'toStatus', ${jobEvents.toStatus},
+      'note', ${jobEvents.note}, 'at', ${jobEvents.at}, 'userName', ${users.name}
+    ) order by ${jobEvents.at}, ${jobEvents.id}), '[]'::json)
+    from ${jobEvents} left join ${users} on ${users.id} = ${jobEvents.userId}
+    where ${jobEvents.jobId} = ${jobs.id} ${kinds}
+  )`;
 }
 
-async function listEvents(db: DbOrTx, jobId: number, forCustomer: boolean): Promise<JobEvent[]> {
-  const name = forCustomer ? 'job_events_customer' : 'job_events_staff';
-  const rows = await prepared(db, name, (n) => buildEvents(db, forCustomer, n)).execute({ jobId });
-  return rows.map((r) => ({
-    ...r,
-    // A stage change's note is written for colleagues; the customer sees the move itself.
-    note: forCustomer && r.kind === 'status' ? '' : r.note,
-    at: r.at.toISOString(),
-  }));
-}
+type TrailRow = Omit<JobEvent, 'at'> & { at: string };
 
 function buildDetail(db: DbOrTx, customerOnly: boolean, name: string) {
   return db
@@ -161,6 +147,7 @@ function buildDetail(db: DbOrTx, customerOnly: boolean, name: string) {
       customer: { id: customers.id, name: customers.name, email: customers.email, phone: customers.phone },
       technicianName: technician.name,
       currency: shops.currency,
+      events: trailOf(customerOnly),
     })
     .from(jobs)
     .innerJoin(units, eq(units.id, jobs.unitId))
@@ -192,7 +179,13 @@ export async function getJobDetail(db: DbOrTx, viewer: SessionUser, jobId: numbe
     assignedTechnician:
       job.assignedTechnicianId !== null && row.technicianName !== null ? { id: job.assignedTechnicianId, name: row.technicianName } : null,
     currency: row.currency,
-    events: await listEvents(db, jobId, customerOnly),
+    events: row.events.map((e) => ({
+      ...e,
+      // A stage change's note is written for colleagues; the customer sees the move itself.
+      note: customerOnly && e.kind === 'status' ? '' : e.note,
+      // json_build_object writes PostgreSQL's timestamp text; the API speaks ISO 8601 UTC.
+      at: new Date(e.at).toISOString(),
+    })),
     createdAt: job.createdAt.toISOString(),
     updatedAt: job.updatedAt.toISOString(),
   };
