@@ -44,7 +44,8 @@ function powerReading(f: CaptureFigures, nominal: number): Reading {
   return { value: f.powerW, note: `P = V²/R across ${f.loadOhms} Ω` };
 }
 
-const hz = (v: number) => (v >= 1000 ? `${Number((v / 1000).toPrecision(3))} kHz` : `${Number(v.toPrecision(3))} Hz`);
+/** A frequency as the sheet writes one ("56.1 Hz", "12.5 kHz"). */
+const hz = (v: number) => formatSpecValue('response_high_hz', Number(v.toPrecision(3)));
 const publishedValue = (published: readonly PublishedFigure[], metric: SpecMetric) => published.find((p) => p.metric === metric)?.value ?? null;
 
 /**

@@ -65,9 +65,26 @@ const toBias = (r: typeof biasReadings.$inferSelect): Bias => ({
   createdAt: r.createdAt.toISOString(),
 });
 
-/** One line in the job's trail for each repair-log change, written in the change's transaction. */
-async function logToTrail(tx: DbOrTx, shopId: number, jobId: number, userId: number, note: string): Promise<void> {
-  await tx.insert(jobEvents).values({ shopId, jobId, userId, kind: 'repair_log', note });
+/**
+ * One repair-log change and its line in the job's trail, in one transaction. `change` returns the
+ * row it wrote or removed (nothing: not in this shop); the trail line reads "<What> <verb> — …".
+ */
+async function withTrail<Row extends { jobId: number }, Out>(
+  db: DbOrTx,
+  ids: { shopId: number; userId: number },
+  what: string,
+  verb: 'added' | 'changed' | 'removed',
+  change: (tx: DbOrTx) => Promise<Row | undefined>,
+  show: (row: Row) => Out,
+  describe: (out: Out) => string,
+): Promise<Out> {
+  return db.transaction(async (tx) => {
+    const row = await change(tx);
+    if (!row) throw notFound(what);
+    const out = show(row);
+    await tx.insert(jobEvents).values({ shopId: ids.shopId, jobId: row.jobId, userId: ids.userId, kind: 'repair_log', note: `${what} ${verb} — ${describe(out)}` });
+    return out;
+  });
 }
 
 const mv = (v: number | null) => (v === null ? '—' : `${v} mV`);
@@ -85,30 +102,20 @@ export const parts = {
     const rows = await db.select().from(partsUsed).where(eq(partsUsed.jobId, jobId)).orderBy(asc(partsUsed.createdAt), asc(partsUsed.id));
     return rows.map(toPart);
   },
-  async create(db: DbOrTx, shopId: number, userId: number, jobId: number, input: PartInput): Promise<Part> {
-    return db.transaction(async (tx) => {
+  create(db: DbOrTx, shopId: number, userId: number, jobId: number, input: PartInput): Promise<Part> {
+    const insert = async (tx: DbOrTx) => {
       await jobInShop(tx, shopId, jobId);
-      const [row] = await tx.insert(partsUsed).values({ ...input, shopId, jobId, createdBy: userId }).returning();
-      const part = toPart(row!);
-      await logToTrail(tx, shopId, jobId, userId, `Part added — ${partText(part)}`);
-      return part;
-    });
+      return (await tx.insert(partsUsed).values({ ...input, shopId, jobId, createdBy: userId }).returning())[0];
+    };
+    return withTrail(db, { shopId, userId }, 'Part', 'added', insert, toPart, partText);
   },
-  async update(db: DbOrTx, shopId: number, userId: number, id: number, input: PartUpdate): Promise<Part> {
-    return db.transaction(async (tx) => {
-      const [row] = await tx.update(partsUsed).set(input).where(and(eq(partsUsed.shopId, shopId), eq(partsUsed.id, id))).returning();
-      if (!row) throw notFound('Part');
-      const part = toPart(row);
-      await logToTrail(tx, shopId, row.jobId, userId, `Part changed — ${partText(part)}`);
-      return part;
-    });
+  update(db: DbOrTx, shopId: number, userId: number, id: number, input: PartUpdate): Promise<Part> {
+    const mine = and(eq(partsUsed.shopId, shopId), eq(partsUsed.id, id));
+    return withTrail(db, { shopId, userId }, 'Part', 'changed', async (tx) => (await tx.update(partsUsed).set(input).where(mine).returning())[0], toPart, partText);
   },
   async remove(db: DbOrTx, shopId: number, userId: number, id: number): Promise<void> {
-    await db.transaction(async (tx) => {
-      const [row] = await tx.delete(partsUsed).where(and(eq(partsUsed.shopId, shopId), eq(partsUsed.id, id))).returning();
-      if (!row) throw notFound('Part');
-      await logToTrail(tx, shopId, row.jobId, userId, `Part removed — ${partText(toPart(row))}`);
-    });
+    const mine = and(eq(partsUsed.shopId, shopId), eq(partsUsed.id, id));
+    await withTrail(db, { shopId, userId }, 'Part', 'removed', async (tx) => (await tx.delete(partsUsed).where(mine).returning())[0], toPart, partText);
   },
 };
 
@@ -118,30 +125,20 @@ export const rails = {
     const rows = await db.select().from(railChecks).where(eq(railChecks.jobId, jobId)).orderBy(asc(railChecks.createdAt), asc(railChecks.id));
     return rows.map(toRail);
   },
-  async create(db: DbOrTx, shopId: number, userId: number, jobId: number, input: RailInput): Promise<Rail> {
-    return db.transaction(async (tx) => {
+  create(db: DbOrTx, shopId: number, userId: number, jobId: number, input: RailInput): Promise<Rail> {
+    const insert = async (tx: DbOrTx) => {
       await jobInShop(tx, shopId, jobId);
-      const [row] = await tx.insert(railChecks).values({ ...input, shopId, jobId, createdBy: userId }).returning();
-      const rail = toRail(row!);
-      await logToTrail(tx, shopId, jobId, userId, `Rail check added — ${railText(rail)}`);
-      return rail;
-    });
+      return (await tx.insert(railChecks).values({ ...input, shopId, jobId, createdBy: userId }).returning())[0];
+    };
+    return withTrail(db, { shopId, userId }, 'Rail check', 'added', insert, toRail, railText);
   },
-  async update(db: DbOrTx, shopId: number, userId: number, id: number, input: RailUpdate): Promise<Rail> {
-    return db.transaction(async (tx) => {
-      const [row] = await tx.update(railChecks).set(input).where(and(eq(railChecks.shopId, shopId), eq(railChecks.id, id))).returning();
-      if (!row) throw notFound('Rail check');
-      const rail = toRail(row);
-      await logToTrail(tx, shopId, row.jobId, userId, `Rail check changed — ${railText(rail)}`);
-      return rail;
-    });
+  update(db: DbOrTx, shopId: number, userId: number, id: number, input: RailUpdate): Promise<Rail> {
+    const mine = and(eq(railChecks.shopId, shopId), eq(railChecks.id, id));
+    return withTrail(db, { shopId, userId }, 'Rail check', 'changed', async (tx) => (await tx.update(railChecks).set(input).where(mine).returning())[0], toRail, railText);
   },
   async remove(db: DbOrTx, shopId: number, userId: number, id: number): Promise<void> {
-    await db.transaction(async (tx) => {
-      const [row] = await tx.delete(railChecks).where(and(eq(railChecks.shopId, shopId), eq(railChecks.id, id))).returning();
-      if (!row) throw notFound('Rail check');
-      await logToTrail(tx, shopId, row.jobId, userId, `Rail check removed — ${railText(toRail(row))}`);
-    });
+    const mine = and(eq(railChecks.shopId, shopId), eq(railChecks.id, id));
+    await withTrail(db, { shopId, userId }, 'Rail check', 'removed', async (tx) => (await tx.delete(railChecks).where(mine).returning())[0], toRail, railText);
   },
 };
 
@@ -151,29 +148,19 @@ export const bias = {
     const rows = await db.select().from(biasReadings).where(eq(biasReadings.jobId, jobId)).orderBy(asc(biasReadings.channel), asc(biasReadings.id));
     return rows.map(toBias);
   },
-  async create(db: DbOrTx, shopId: number, userId: number, jobId: number, input: BiasInput): Promise<Bias> {
-    return db.transaction(async (tx) => {
+  create(db: DbOrTx, shopId: number, userId: number, jobId: number, input: BiasInput): Promise<Bias> {
+    const insert = async (tx: DbOrTx) => {
       await jobInShop(tx, shopId, jobId);
-      const [row] = await tx.insert(biasReadings).values({ ...input, shopId, jobId, createdBy: userId }).returning();
-      const reading = toBias(row!);
-      await logToTrail(tx, shopId, jobId, userId, `Bias reading added — ${biasText(reading)}`);
-      return reading;
-    });
+      return (await tx.insert(biasReadings).values({ ...input, shopId, jobId, createdBy: userId }).returning())[0];
+    };
+    return withTrail(db, { shopId, userId }, 'Bias reading', 'added', insert, toBias, biasText);
   },
-  async update(db: DbOrTx, shopId: number, userId: number, id: number, input: BiasUpdate): Promise<Bias> {
-    return db.transaction(async (tx) => {
-      const [row] = await tx.update(biasReadings).set(input).where(and(eq(biasReadings.shopId, shopId), eq(biasReadings.id, id))).returning();
-      if (!row) throw notFound('Bias reading');
-      const reading = toBias(row);
-      await logToTrail(tx, shopId, row.jobId, userId, `Bias reading changed — ${biasText(reading)}`);
-      return reading;
-    });
+  update(db: DbOrTx, shopId: number, userId: number, id: number, input: BiasUpdate): Promise<Bias> {
+    const mine = and(eq(biasReadings.shopId, shopId), eq(biasReadings.id, id));
+    return withTrail(db, { shopId, userId }, 'Bias reading', 'changed', async (tx) => (await tx.update(biasReadings).set(input).where(mine).returning())[0], toBias, biasText);
   },
   async remove(db: DbOrTx, shopId: number, userId: number, id: number): Promise<void> {
-    await db.transaction(async (tx) => {
-      const [row] = await tx.delete(biasReadings).where(and(eq(biasReadings.shopId, shopId), eq(biasReadings.id, id))).returning();
-      if (!row) throw notFound('Bias reading');
-      await logToTrail(tx, shopId, row.jobId, userId, `Bias reading removed — ${biasText(toBias(row))}`);
-    });
+    const mine = and(eq(biasReadings.shopId, shopId), eq(biasReadings.id, id));
+    await withTrail(db, { shopId, userId }, 'Bias reading', 'removed', async (tx) => (await tx.delete(biasReadings).where(mine).returning())[0], toBias, biasText);
   },
 };

@@ -21,6 +21,18 @@ const JOB = 1;
 const children: ChildProcess[] = [];
 afterAll(() => children.forEach((c) => c.kill('SIGKILL')));
 
+/** A child server's settings: the test database, its own files folder, and what the test adds. */
+function childEnv(filesDir: string, extra: Record<string, string>): Record<string, string> {
+  return {
+    DATABASE_URL: inject('databaseUrl'),
+    HOST: '127.0.0.1',
+    PORT: '0',
+    SESSION_SECRET: 'fault-test-secret-of-sufficient-length',
+    FILES_DIR: filesDir,
+    ...extra,
+  };
+}
+
 function startChild(env: Record<string, string>): Promise<{ url: string; proc: ChildProcess }> {
   const proc = spawn(process.execPath, ['--import', 'tsx', join(root, 'tests/support/child-server.ts')], {
     cwd: root,
@@ -50,14 +62,7 @@ const until = async (check: () => boolean, ms = 15_000) => {
 describe('killed in the middle of an upload', () => {
   it('leaves no capture row, and the restarted server removes the partial file', async () => {
     const filesDir = mkdtempSync(join(inject('scratchDir'), 'fault-files-'));
-    const env = {
-      DATABASE_URL: inject('databaseUrl'),
-      HOST: '127.0.0.1',
-      PORT: '0',
-      SESSION_SECRET: 'fault-test-secret-of-sufficient-length',
-      FILES_DIR: filesDir,
-      WORKER: 'off',
-    };
+    const env = childEnv(filesDir, { WORKER: 'off' });
     const first = await startChild(env);
     const tech = await signedIn(first.url, 'tech@quietpath.test');
     const before = (await tech.get<unknown[]>(`/api/jobs/${JOB}/captures`)).body.length;
@@ -134,16 +139,7 @@ describe('killed in the middle of an analysis', () => {
   it('the capture is measured after a restart, once the lost attempt expires', async () => {
     const filesDir = mkdtempSync(join(inject('scratchDir'), 'fault-analysis-'));
     // Short expiry and maintenance so the lost attempt is noticed within seconds, not the default 10 minutes.
-    const env = {
-      DATABASE_URL: inject('databaseUrl'),
-      HOST: '127.0.0.1',
-      PORT: '0',
-      SESSION_SECRET: 'fault-test-secret-of-sufficient-length',
-      FILES_DIR: filesDir,
-      WORKER: 'on',
-      ANALYSIS_EXPIRE_SECONDS: '2',
-      QUEUE_MAINTENANCE_SECONDS: '1',
-    };
+    const env = childEnv(filesDir, { WORKER: 'on', ANALYSIS_EXPIRE_SECONDS: '2', QUEUE_MAINTENANCE_SECONDS: '1' });
     const { db, close } = testDb();
     try {
       const first = await startChild(env);
