@@ -16,7 +16,8 @@ import { startServer } from '../server/main';
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
 const dataDir = join(root, '.data');
-const PG_PORT = 54329;
+/** The project cluster's port; PG_PORT moves it when two checkouts run side by side. */
+const PG_PORT = Number(process.env.PG_PORT ?? 54329);
 
 async function main() {
   const cluster = await startCluster({ dataDir: join(dataDir, 'postgres'), port: PG_PORT, database: 'quietpath' });
