@@ -5,10 +5,11 @@ import {
   type AnalyzeOptions,
   type WavInfo,
 } from '../shared/analysis-result';
+import { resultFromShares, type ChannelShare } from './channel-split';
 import { ClickDetector } from './clicks';
 import { LevelMeter } from './levels';
 import { ChannelPass } from './pass';
-import { buildResult, MEASUREMENT_WINDOW } from './report';
+import { MEASUREMENT_WINDOW } from './report';
 import { planWelch, SpectrumAccumulator } from './spectrum';
 import { planSweepFrames, SWEEP_WINDOW } from './sweep';
 import { FrameDecoder, fullScaleOf } from './wav-decode';
@@ -40,6 +41,7 @@ export function parseAnalyzeOptions(options: unknown): AnalyzeOptions {
 
 interface Pipeline {
   info: WavInfo;
+  keep: number[];
   decoder: FrameDecoder;
   meters: LevelMeter[];
   clicks: ClickDetector[];
@@ -47,16 +49,22 @@ interface Pipeline {
   sweep: SpectrumAccumulator | null;
 }
 
-/** Push-based analyser: feed it the file's bytes in order, then call finish(). */
+/**
+ * Push-based analyser: feed it the file's bytes in order, then call finish(). Given `channels`,
+ * it measures only those (one thread's share, see channel-split.ts) and finishShare() returns
+ * their figures.
+ */
 export class CaptureAnalyzer {
   private readonly options: AnalyzeOptions;
+  private readonly channels: readonly number[] | null;
   private head: Uint8Array = new Uint8Array(0);
   private pipeline: Pipeline | null = null;
   private bytesSeen = 0;
   private done = false;
 
-  constructor(options: AnalyzeOptions = {}) {
+  constructor(options: AnalyzeOptions = {}, channels?: readonly number[]) {
     this.options = parseAnalyzeOptions(options);
+    this.channels = channels ?? null;
   }
 
   /** Header information once the header has been read, else null. */
@@ -94,10 +102,13 @@ export class CaptureAnalyzer {
     if (o.drivenChannel !== undefined && o.drivenChannel >= info.channels) {
       throw new AnalyzeOptionsError(`drivenChannel ${o.drivenChannel} does not exist in a ${info.channels}-channel capture`);
     }
+    const keep = this.channels ? [...this.channels] : Array.from({ length: info.channels }, (_, c) => c);
+    if (keep.some((c, k) => !Number.isInteger(c) || c < 0 || c >= info.channels || (k > 0 && c <= keep[k - 1]!))) {
+      throw new AnalyzeOptionsError(`channels ${keep.join(', ')} are not increasing channel numbers of a ${info.channels}-channel capture`);
+    }
     const { hi, lo } = fullScaleOf(info);
     const wantSweep = o.stimulus === 'sweep' || (o.stimulus === undefined && info.durationS <= AUTO_SWEEP_MAX_SECONDS);
-    const meters = Array.from(
-      { length: info.channels },
+    const meters = keep.map(
       () =>
         new LevelMeter({
           sampleRate: info.sampleRate,
@@ -107,21 +118,27 @@ export class CaptureAnalyzer {
           countCrossings: wantSweep && o.stimulus === undefined,
         }),
     );
-    const clicks = Array.from({ length: info.channels }, () => new ClickDetector(info.sampleRate, info.frames));
+    const clicks = keep.map(() => new ClickDetector(info.sampleRate, info.frames));
     const passes = meters.map((m, c) => new ChannelPass(m, clicks[c]!));
     const welch = planWelch(info.sampleRate, info.frames);
-    const spectrum = welch ? new SpectrumAccumulator(welch, info.channels, info.sampleRate, MEASUREMENT_WINDOW) : null;
+    const spectrum = welch ? new SpectrumAccumulator(welch, keep.length, info.sampleRate, MEASUREMENT_WINDOW) : null;
     const sweepPlan = wantSweep ? planSweepFrames(info.sampleRate, info.frames) : null;
-    const sweep = sweepPlan ? new SpectrumAccumulator(sweepPlan, info.channels, info.sampleRate, SWEEP_WINDOW) : null;
-    const decoder = new FrameDecoder(info, (block, start, length) => {
-      for (let c = 0; c < block.length; c++) passes[c]!.process(block[c]!, length);
-      spectrum?.collector.push(block, start, length);
-      sweep?.collector.push(block, start, length);
-    });
-    return { info, decoder, meters, clicks, spectrum, sweep };
+    const sweep = sweepPlan ? new SpectrumAccumulator(sweepPlan, keep.length, info.sampleRate, SWEEP_WINDOW) : null;
+    const decoder = new FrameDecoder(
+      info,
+      (block, start, length) => {
+        for (let c = 0; c < block.length; c++) passes[c]!.process(block[c]!, length);
+        spectrum?.collector.push(block, start, length);
+        sweep?.collector.push(block, start, length);
+      },
+      undefined,
+      keep,
+    );
+    return { info, keep, decoder, meters, clicks, spectrum, sweep };
   }
 
-  finish(): AnalysisResult {
+  /** The figures of the channels this analyser measures (all, unless given a share). */
+  finishShare(): ChannelShare {
     if (this.done) throw new Error('CaptureAnalyzer: finish called twice');
     this.done = true;
     const p = this.pipeline;
@@ -134,16 +151,18 @@ export class CaptureAnalyzer {
     p.decoder.finish();
     p.spectrum?.collector.finish(p.info.frames);
     p.sweep?.collector.finish(p.info.frames);
-    const result = buildResult({
-      engineVersion: ENGINE_VERSION,
-      info: p.info,
-      options: this.options,
+    return {
+      channels: p.keep,
       levels: p.meters.map((m) => m.result()),
       clicks: p.clicks.map((c) => c.finish()),
       spectrum: p.spectrum?.result() ?? null,
       sweepSpectrum: p.sweep?.result() ?? null,
-    });
-    return result;
+    };
+  }
+
+  finish(): AnalysisResult {
+    const share = this.finishShare();
+    return resultFromShares({ engineVersion: ENGINE_VERSION, info: this.pipeline!.info, options: this.options, shares: [share] });
   }
 }
 

@@ -10,6 +10,7 @@ export {
   parseAnalyzeOptions,
   validateResult,
 } from './analyze';
+export { channelGroups, resultFromShares, type ChannelShare } from './channel-split';
 export {
   readWavInfo,
   WavFormatError,

@@ -85,25 +85,31 @@ function decode24Words(b: Uint8Array, at: number, n: number, out: readonly Float
 /** Decodes `frames` frames; returns −1, or the index (frame·channels + channel) of a non-finite sample. */
 type FrameReader = (b: Uint8Array, at: number, frames: number, out: readonly Float64Array[], pos: number) => number;
 
-function makeReader(info: WavInfo, view: () => DataView): FrameReader {
+/**
+ * `keep` lists the channels decoded, in order: out[k] receives channel keep[k]. Float data is
+ * checked for non-finite values in every channel all the same, so a damaged file fails with the
+ * same message whichever channels a reader keeps.
+ */
+function makeReader(info: WavInfo, view: () => DataView, keep: readonly number[]): FrameReader {
   const ch = info.channels;
+  const kept = keep.length;
   const stride = info.blockAlign;
   // Channel-outer loops: each inner loop writes one output array with a fixed byte stride.
   switch (info.format === 'pcm' ? info.bitsPerSample : info.format === 'float' ? -info.bitsPerSample : info.format) {
     case 8:
       return (b, at, n, out, pos) => {
-        for (let c = 0; c < ch; c++) {
-          const o = out[c]!;
-          for (let f = 0, i = at + c; f < n; f++, i += stride) o[pos + f] = (b[i]! - 128) * (1 / 128);
+        for (let k = 0; k < kept; k++) {
+          const o = out[k]!;
+          for (let f = 0, i = at + keep[k]!; f < n; f++, i += stride) o[pos + f] = (b[i]! - 128) * (1 / 128);
         }
         return -1;
       };
     case 16:
       return (_b, at, n, out, pos) => {
         const dv = view();
-        for (let c = 0; c < ch; c++) {
-          const o = out[c]!;
-          for (let f = 0, i = at + 2 * c; f < n; f++, i += stride) o[pos + f] = dv.getInt16(i, true) * (1 / 32768);
+        for (let k = 0; k < kept; k++) {
+          const o = out[k]!;
+          for (let f = 0, i = at + 2 * keep[k]!; f < n; f++, i += stride) o[pos + f] = dv.getInt16(i, true) * (1 / 32768);
         }
         return -1;
       };
@@ -114,10 +120,10 @@ function makeReader(info: WavInfo, view: () => DataView): FrameReader {
       // bits, so `>> 8` yields it sign-extended in one unaligned load.
       const byteWise = (b: Uint8Array, at: number, from: number, to: number, out: readonly Float64Array[], pos: number): void => {
         const dv = view();
-        for (let c = 0; c < ch; c++) {
-          const o = out[c]!;
+        for (let k = 0; k < kept; k++) {
+          const o = out[k]!;
           let f = from;
-          let i = at + from * stride + 3 * c;
+          let i = at + from * stride + 3 * keep[k]!;
           if (i === 0 && f < to) {
             o[pos + f] = (((b[0]! | (b[1]! << 8) | (b[2]! << 16)) << 8) >> 8) * (1 / 8388608);
             f++;
@@ -126,7 +132,7 @@ function makeReader(info: WavInfo, view: () => DataView): FrameReader {
           for (; f < to; f++, i += stride) o[pos + f] = (dv.getInt32(i - 1, true) >> 8) * (1 / 8388608);
         }
       };
-      const wordWise = ch <= 2 && LITTLE_ENDIAN;
+      const wordWise = ch <= 2 && kept === ch && LITTLE_ENDIAN;
       return (b, at, n, out, pos) => {
         // Frames to skip until a 4-byte boundary: stereo frames are 6 bytes (only an even start
         // can get there), mono 3 (always within four frames).
@@ -145,15 +151,17 @@ function makeReader(info: WavInfo, view: () => DataView): FrameReader {
     case 32:
       return (_b, at, n, out, pos) => {
         const dv = view();
-        for (let c = 0; c < ch; c++) {
-          const o = out[c]!;
-          for (let f = 0, i = at + 4 * c; f < n; f++, i += stride) o[pos + f] = dv.getInt32(i, true) * (1 / 2147483648);
+        for (let k = 0; k < kept; k++) {
+          const o = out[k]!;
+          for (let f = 0, i = at + 4 * keep[k]!; f < n; f++, i += stride) o[pos + f] = dv.getInt32(i, true) * (1 / 2147483648);
         }
         return -1;
       };
     case -32:
     case -64: {
       const size = info.bitsPerSample / 8;
+      // slot[c]: where channel c goes in out, or −1 when it is only checked.
+      const slot = Array.from({ length: ch }, (_, c) => keep.indexOf(c));
       return (_b, at, n, out, pos) => {
         const dv = view();
         for (let f = 0, i = at; f < n; f++) {
@@ -161,7 +169,8 @@ function makeReader(info: WavInfo, view: () => DataView): FrameReader {
             const v = size === 8 ? dv.getFloat64(i, true) : dv.getFloat32(i, true);
             // v − v is NaN exactly when v is NaN or ±Infinity: one test for both.
             if (v - v !== 0) return f * ch + c;
-            out[c]![pos + f] = v;
+            const k = slot[c]!;
+            if (k >= 0) out[k]![pos + f] = v;
           }
         }
         return -1;
@@ -171,9 +180,9 @@ function makeReader(info: WavInfo, view: () => DataView): FrameReader {
     case 'mulaw': {
       const t = info.format === 'alaw' ? alawTable() : mulawTable();
       return (b, at, n, out, pos) => {
-        for (let c = 0; c < ch; c++) {
-          const o = out[c]!;
-          for (let f = 0, i = at + c; f < n; f++, i += stride) o[pos + f] = t[b[i]!]!;
+        for (let k = 0; k < kept; k++) {
+          const o = out[k]!;
+          for (let f = 0, i = at + keep[k]!; f < n; f++, i += stride) o[pos + f] = t[b[i]!]!;
         }
         return -1;
       };
@@ -197,13 +206,15 @@ export class FrameDecoder {
   private currentView: DataView = new DataView(new ArrayBuffer(0));
   private readonly read: FrameReader;
 
-  constructor(info: WavInfo, sink: BlockSink, blockFrames = 8192) {
+  /** `keep`: the channels to decode, in order (default all); the sink's blocks hold those only. */
+  constructor(info: WavInfo, sink: BlockSink, blockFrames = 8192, keep?: readonly number[]) {
     this.info = info;
     this.sink = sink;
     this.blockFrames = blockFrames;
-    this.block = Array.from({ length: info.channels }, () => new Float64Array(blockFrames));
+    const channels = keep ?? Array.from({ length: info.channels }, (_, c) => c);
+    this.block = channels.map(() => new Float64Array(blockFrames));
     this.carry = new Uint8Array(info.blockAlign);
-    this.read = makeReader(info, () => this.currentView);
+    this.read = makeReader(info, () => this.currentView, channels);
   }
 
   get framesDecoded(): number {

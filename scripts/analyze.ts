@@ -3,42 +3,19 @@
 //     [--probe-atten X] [--reference-dbfs D] [--stimulus tone|silence|sweep|programme]
 //     [--tone-hz F] [--sweep-start-hz F] [--sweep-end-hz F] [--json]
 // Exit codes: 0 analysed, 2 invalid input (bad file, bad option), 1 anything unexpected.
-import { open, stat } from 'node:fs/promises';
+import { stat } from 'node:fs/promises';
 import { pathToFileURL } from 'node:url';
 import {
   AnalyzeOptionsError,
-  analyzeWavStream,
   WavFormatError,
   type AnalysisResult,
   type AnalyzeOptions,
 } from '../analysis/index';
+import { analyzeFileInThreads } from '../server/worker/channel-threads';
 
 class UsageError extends Error {}
 
-/**
- * Reads a file in 1 MiB chunks through two reused buffers, starting the next read before handing
- * out the current chunk so disk and analysis overlap. Safe with CaptureAnalyzer, which never keeps
- * a chunk after push() returns. (fs.createReadStream allocates a fresh buffer per chunk, and its
- * garbage costs more than the reads themselves on a long capture.)
- */
-export async function* readFileChunks(path: string, chunkBytes = 1 << 20): AsyncGenerator<Uint8Array> {
-  const fh = await open(path, 'r');
-  try {
-    const buffers = [new Uint8Array(chunkBytes), new Uint8Array(chunkBytes)];
-    let turn = 0;
-    let pending = fh.read(buffers[0]!, 0, chunkBytes, null);
-    for (;;) {
-      const { bytesRead } = await pending;
-      if (bytesRead === 0) return;
-      const current = buffers[turn]!;
-      turn ^= 1;
-      pending = fh.read(buffers[turn]!, 0, chunkBytes, null);
-      yield current.subarray(0, bytesRead);
-    }
-  } finally {
-    await fh.close();
-  }
-}
+export { readFileChunks } from '../server/worker/file-chunks';
 
 const USAGE =
   'usage: analyze FILE.wav [--driven L|R|N] [--mains 50|60] [--volts-at-fs V] [--probe-atten X] ' +
@@ -144,7 +121,8 @@ async function main(): Promise<number> {
     file = args.file;
     const st = await stat(file);
     if (!st.isFile()) throw new UsageError(`${file} is not a file`);
-    const result = await analyzeWavStream(readFileChunks(file), args.options);
+    // Long captures of two or more channels are measured across the machine's cores.
+    const result = await analyzeFileInThreads(file, args.options);
     process.stdout.write(args.json ? `${JSON.stringify(result)}\n` : `${summary(file, result)}\n`);
     return 0;
   } catch (e) {

@@ -1,0 +1,41 @@
+import { parentPort, workerData } from 'node:worker_threads';
+import { CaptureAnalyzer, type ChannelShare } from '../../analysis/index';
+import type { AnalyzeOptions } from '../../shared/analysis-result';
+import { readFileChunks } from './file-chunks';
+
+// One analysis thread: measures its share of a capture's channels and posts the figures back
+// (channel-threads.ts starts it). Errors go back as plain data, so the caller can rebuild them.
+
+export interface ThreadTask {
+  path: string;
+  options: AnalyzeOptions;
+  channels: number[];
+}
+
+export type ThreadReply =
+  | { ok: true; share: ChannelShare }
+  | { ok: false; error: { name: string; message: string; code?: string } };
+
+/** Measures one share; used by the thread below and, for its own share, by the calling thread. */
+export async function measureShare(task: ThreadTask): Promise<ChannelShare> {
+  const analyzer = new CaptureAnalyzer(task.options, task.channels);
+  for await (const chunk of readFileChunks(task.path)) analyzer.push(chunk);
+  return analyzer.finishShare();
+}
+
+if (parentPort && (workerData as { channelThread?: boolean } | null)?.channelThread) {
+  const port = parentPort;
+  port.once('message', (task: ThreadTask) => {
+    measureShare(task).then(
+      (share) => port.postMessage({ ok: true, share } satisfies ThreadReply),
+      (err: unknown) => {
+        const e = err instanceof Error ? err : new Error(String(err));
+        const code = (e as { code?: unknown }).code;
+        port.postMessage({
+          ok: false,
+          error: { name: e.name, message: e.message, ...(typeof code === 'string' ? { code } : {}) },
+        } satisfies ThreadReply);
+      },
+    );
+  });
+}
