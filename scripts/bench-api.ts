@@ -4,10 +4,16 @@
  *  1. 50 concurrent clients on the job list and on a job's detail route (autocannon): requests/s,
  *     p50 and p99 latency in three rounds; target: median p99 < 100 ms.
  *  2. 10 concurrent 50 MB WAV uploads, then the time until all are analysed.
+ *  3. Upload → result, for a 60 s and a 5-minute 96 kHz 24-bit stereo capture, 5 rounds each:
+ *     from the first byte of the upload to the result readable from the API, split into upload
+ *     (until the capture is committed and the response is back), queue wait (until the capture
+ *     is seen running) and analysis (until its result is readable); p50 and max. Compared with
+ *     the same file's analysis in-process, the target is total ≤ 1.5 × that + the upload.
+ *  `--upload-to-result` runs part 3 only.
  */
 import { execFile, execFileSync } from 'node:child_process';
 import { promisify } from 'node:util';
-import { existsSync, mkdirSync, openAsBlob, rmSync, statSync } from 'node:fs';
+import { closeSync, existsSync, mkdirSync, openAsBlob, openSync, rmSync, statSync, writeSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { startCluster } from './lib/pg-cluster';
@@ -15,6 +21,7 @@ import { createDb } from '../server/db/client';
 import { runMigrations } from '../server/db/migrate';
 import { seedDemo } from '../server/db/seed';
 import { startServer } from '../server/main';
+import { analyzeFileInThreads } from '../server/worker/channel-threads';
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
 const work = join(root, 'bench-data');
@@ -124,6 +131,75 @@ async function uploads(base: string, auth: { cookie: string; csrf: string }, job
   return { files: 10, sizeMb: Number(sizeMb.toFixed(1)), uploadedS: Number(uploadedS.toFixed(1)), analysedS: Number(((performance.now() - started) / 1000).toFixed(1)) };
 }
 
+/** 96 kHz 24-bit stereo: a −10 dBFS 997 Hz tone in both channels, made by sox. */
+function captureOf(seconds: number): string {
+  const file = join(work, `upload-${seconds}s-96k-24bit-stereo.wav`);
+  if (!existsSync(file)) {
+    execFileSync('sox', ['-n', '-r', '96000', '-b', '24', '-c', '2', file, 'synth', String(seconds), 'sine', '997', 'vol', '0.316']);
+  }
+  return file;
+}
+
+/** Changes the file's last byte, so each round uploads new content (storage is by content hash). */
+function stamp(file: string, round: number): void {
+  const fd = openSync(file, 'r+');
+  writeSync(fd, new Uint8Array([round & 0xff]), 0, 1, statSync(file).size - 1);
+  closeSync(fd);
+}
+
+const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
+
+async function uploadToResult(base: string, auth: { cookie: string; csrf: string }, jobId: number, seconds: number) {
+  const file = captureOf(seconds);
+  const rounds: { uploadMs: number; queueMs: number; analysisMs: number; totalMs: number }[] = [];
+  for (let round = 0; round < 5; round++) {
+    stamp(file, round + 1);
+    const form = new FormData();
+    form.append('metadata', JSON.stringify([{ phase: 'before', stimulus: 'tone', testPointId: null, drivenChannel: 0 }]));
+    form.append('files', await openAsBlob(file), `timing-${seconds}s-${round}.wav`);
+    const t0 = performance.now();
+    const res = await fetch(`${base}/api/jobs/${jobId}/captures`, { method: 'POST', headers: { cookie: auth.cookie, 'x-csrf-token': auth.csrf }, body: form });
+    if (!res.ok) throw new Error(`upload failed: ${res.status} ${await res.text()}`);
+    const id = ((await res.json()) as { captures: { id: number }[] }).captures[0]!.id;
+    const committed = performance.now();
+    let running: number | null = null;
+    // Polled every 5 ms: the split is good to about that.
+    for (;;) {
+      const state = ((await (await fetch(`${base}/api/captures/${id}`, { headers: { cookie: auth.cookie } })).json()) as { state: string }).state;
+      if (state === 'failed') throw new Error(`analysis of capture ${id} failed`);
+      if (state !== 'queued') running ??= performance.now();
+      if (state === 'done') break;
+      if (performance.now() - t0 > 600_000) throw new Error('no result within 10 minutes');
+      await sleep(5);
+    }
+    const result = await fetch(`${base}/api/captures/${id}/result`, { headers: { cookie: auth.cookie } });
+    if (!result.ok) throw new Error(`result not readable: ${result.status}`);
+    await result.arrayBuffer();
+    const done = performance.now();
+    rounds.push({ uploadMs: committed - t0, queueMs: running! - committed, analysisMs: done - running!, totalMs: done - t0 });
+  }
+  const cli: number[] = [];
+  for (let i = 0; i < 3; i++) {
+    const t = performance.now();
+    await analyzeFileInThreads(file, { stimulus: 'tone', drivenChannel: 0 });
+    cli.push(performance.now() - t);
+  }
+  const p50 = (xs: number[]) => median(xs);
+  const max = (xs: number[]) => Math.max(...xs);
+  const pick = (k: keyof (typeof rounds)[number]) => rounds.map((r) => r[k]);
+  const cliMs = Math.min(...cli);
+  const target = 1.5 * cliMs + p50(pick('uploadMs'));
+  return {
+    capture: `${seconds} s, ${(statSync(file).size / 1e6).toFixed(0)} MB`,
+    'upload p50/max ms': `${p50(pick('uploadMs')).toFixed(0)} / ${max(pick('uploadMs')).toFixed(0)}`,
+    'queue wait p50/max ms': `${p50(pick('queueMs')).toFixed(0)} / ${max(pick('queueMs')).toFixed(0)}`,
+    'analysis p50/max ms': `${p50(pick('analysisMs')).toFixed(0)} / ${max(pick('analysisMs')).toFixed(0)}`,
+    'total p50/max ms': `${p50(pick('totalMs')).toFixed(0)} / ${max(pick('totalMs')).toFixed(0)}`,
+    'CLI analysis ms (best of 3)': cliMs.toFixed(0),
+    'target total ms': `${target.toFixed(0)} — ${p50(pick('totalMs')) <= target ? 'within' : 'OVER'}`,
+  };
+}
+
 async function main() {
   mkdirSync(work, { recursive: true });
   let base = process.env.BENCH_URL;
@@ -131,7 +207,8 @@ async function main() {
   if (!base) {
     const dataDir = join(work, 'api-cluster');
     rmSync(dataDir, { recursive: true, force: true });
-    const cluster = await startCluster({ dataDir, port: 54349, database: 'quietpath_bench', log: () => {} });
+    // BENCH_PG_PORT moves the throwaway cluster when two checkouts run the bench side by side.
+    const cluster = await startCluster({ dataDir, port: Number(process.env.BENCH_PG_PORT ?? 54349), database: 'quietpath_bench', log: () => {} });
     const { db, pool } = createDb(cluster.url);
     await runMigrations(db);
     await seedDemo(db);
@@ -151,6 +228,11 @@ async function main() {
   }
   try {
     const auth = await signIn(base, 'tech@quietpath.test');
+    if (process.argv.includes('--upload-to-result')) {
+      console.log('upload → result, 5 rounds each…');
+      console.table([await uploadToResult(base, auth, 1, 60), await uploadToResult(base, auth, 1, 300)]);
+      return;
+    }
     const rows = [await load(`${base}/api/jobs`, auth.cookie), await load(`${base}/api/jobs/1`, auth.cookie)];
     console.table(rows);
     for (const r of rows) {
@@ -159,6 +241,8 @@ async function main() {
     if (process.argv.includes('--skip-uploads')) return;
     console.log('10 concurrent 50 MB uploads…');
     console.table([await uploads(base, auth, 1)]);
+    console.log('upload → result, 5 rounds each…');
+    console.table([await uploadToResult(base, auth, 1, 60), await uploadToResult(base, auth, 1, 300)]);
   } finally {
     await stop();
   }

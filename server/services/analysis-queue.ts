@@ -1,12 +1,21 @@
 import PgBoss from 'pg-boss';
+import pg from 'pg';
 import { sql, type SQL } from 'drizzle-orm';
 import type { DbOrTx } from '../db/client';
 
 // The capture-analysis queue: pg-boss tables in PostgreSQL (schema "pgboss"), so any number of
 // worker processes on any machine that reaches the database can share the work.
+//
+// Pick-up: every enqueue also sends a NOTIFY on ANALYSIS_CHANNEL in the same transaction, which
+// PostgreSQL delivers when the capture commits; each process LISTENs and wakes its workers at
+// once, wherever they run. Polling faster instead would cost every worker a query per interval
+// while idle (and pg-boss polls no faster than every 0.5 s); the poll stays as the fallback for
+// a notification missed while a listener was reconnecting.
 
 export const ANALYSIS_QUEUE = 'capture-analysis';
 export const PGBOSS_SCHEMA = 'pgboss';
+/** NOTIFY channel announcing new analysis jobs. */
+export const ANALYSIS_CHANNEL = 'capture_analysis_queued';
 
 export interface AnalysisJobData {
   captureId: number;
@@ -66,11 +75,13 @@ export async function startAnalysisQueue(databaseUrl: string, options: QueueOpti
   if (!(await boss.getQueue(ANALYSIS_QUEUE))) await createQueueOnce(boss);
   let stopped = false;
   const localWorkers = new Set<string>();
+  const wake = () => {
+    if (!stopped) for (const id of localWorkers) boss.notifyWorker(id);
+  };
+  const listener = await listen(databaseUrl, wake, () => stopped);
   return {
     boss,
-    wake() {
-      if (!stopped) for (const id of localWorkers) boss.notifyWorker(id);
-    },
+    wake,
     registerLocalWorker(workerId) {
       localWorkers.add(workerId);
     },
@@ -79,11 +90,51 @@ export async function startAnalysisQueue(databaseUrl: string, options: QueueOpti
         const data: AnalysisJobData = { captureId };
         await boss.send(ANALYSIS_QUEUE, data, db ? { db: pgBossDb(db), expireInSeconds } : { expireInSeconds });
       }
+      // Inside the caller's transaction PostgreSQL holds the notification until the commit.
+      const notify = sql`select pg_notify(${ANALYSIS_CHANNEL}, '')`;
+      if (db) await db.execute(notify);
+      else await boss.getDb().executeSql(`select pg_notify($1, '')`, [ANALYSIS_CHANNEL]);
     },
     async stop() {
       if (stopped) return;
       stopped = true;
+      await listener.stop();
       await boss.stop({ graceful: true, wait: true, timeout: 5000, close: true });
+    },
+  };
+}
+
+/**
+ * A connection that LISTENs on ANALYSIS_CHANNEL and calls onNotice for each notification; it
+ * reconnects after a second when the connection drops, until isStopped() says otherwise.
+ */
+async function listen(databaseUrl: string, onNotice: () => void, isStopped: () => boolean): Promise<{ stop(): Promise<void> }> {
+  let client: pg.Client | null = null;
+  let retry: NodeJS.Timeout | null = null;
+  const connect = async (): Promise<void> => {
+    const c = new pg.Client({ connectionString: databaseUrl, application_name: 'quietpath-queue-listen' });
+    c.on('notification', (msg) => {
+      if (msg.channel === ANALYSIS_CHANNEL) onNotice();
+    });
+    c.on('error', (err) => {
+      console.error('analysis queue listener:', err.message);
+      if (client === c) client = null;
+      c.end().catch(() => {});
+      if (!isStopped()) retry = setTimeout(() => void connect().catch(() => {}), 1000);
+    });
+    await c.connect();
+    await c.query(`LISTEN ${ANALYSIS_CHANNEL}`);
+    client = c;
+    // A job queued while the listener was away would otherwise wait for the next poll.
+    onNotice();
+  };
+  await connect();
+  return {
+    async stop() {
+      if (retry) clearTimeout(retry);
+      const c = client;
+      client = null;
+      await c?.end();
     },
   };
 }

@@ -1,11 +1,11 @@
-import { createReadStream } from 'node:fs';
 import { eq } from 'drizzle-orm';
-import { AnalyzeOptionsError, analyzeWavStream, ENGINE_VERSION, WavFormatError } from '../../analysis/index';
+import { AnalyzeOptionsError, ENGINE_VERSION, WavFormatError } from '../../analysis/index';
 import { analysisResultSchema, type AnalyzeOptions } from '../../shared/analysis-result';
 import { figuresFromResult } from '../../shared/capture-figures';
 import type { Db } from '../db/client';
 import { analyses, calibrationProfiles, captures } from '../db/schema/index';
 import { storagePath } from '../services/capture-storage';
+import { analyzeFileInThreads } from './channel-threads';
 
 // One analysis run: stream the stored WAV through the engine with the capture's settings and
 // store the result. Called by the queue worker; safe to call twice for the same capture.
@@ -47,10 +47,13 @@ export async function analyseCapture(db: Db, filesDir: string, captureId: number
   }
 
   try {
-    // Small reads: the engine works synchronously on each chunk, and in the server process the
-    // HTTP requests wait between chunks, so this bounds their delay.
-    const stream = createReadStream(storagePath(filesDir, capture.sha256), { highWaterMark: 256 * 1024 });
-    const raw = await analyzeWavStream(stream, options);
+    // A long capture is measured in worker threads, all of them, so this process's event loop
+    // (the HTTP requests, in the server) stays free. A short one is measured here in small reads:
+    // the engine works synchronously on each chunk, and requests wait between chunks.
+    const raw = await analyzeFileInThreads(storagePath(filesDir, capture.sha256), options, {
+      shareCallingThread: false,
+      chunkBytes: 256 * 1024,
+    });
     const result = analysisResultSchema.parse(raw);
     const figures = figuresFromResult(result, { loadOhms: capture.loadOhms });
     const headline = {

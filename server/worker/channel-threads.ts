@@ -45,6 +45,8 @@ export interface ThreadOptions {
   shareCallingThread?: boolean;
   /** Analyse in threads whatever the length (tests use it on short captures). */
   ignoreBreakEven?: boolean;
+  /** Read size when the calling thread analyses alone (a server keeps it small: requests wait between reads). */
+  chunkBytes?: number;
 }
 
 let liveThreads = 0;
@@ -166,7 +168,7 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
   const threads = Math.max(1, Math.floor(how.threads ?? availableParallelism()));
   const info = parseWavHeader(await readHead(path));
   const worth = info !== null && (how.ignoreBreakEven || info.frames * info.channels >= THREAD_BREAK_EVEN_SAMPLES);
-  if (!info || !worth || threads < 2 || info.channels < 2) return analyzeWavStream(readFileChunks(path), parsed);
+  if (!info || !worth || threads < 2 || info.channels < 2) return analyzeWavStream(readFileChunks(path, how.chunkBytes), parsed);
 
   const shareCalling = how.shareCallingThread ?? true;
   const groups = channelGroups(info.channels, threads);
