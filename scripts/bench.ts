@@ -127,7 +127,7 @@ function bestOf(path: string, threads: number, ignoreBreakEven = false) {
 /** Where threads start to pay: 1 thread against all cores on captures of a few lengths. */
 function breakEven(): void {
   process.stdout.write(`break-even, 96 kHz 24-bit stereo, best of ${ROUNDS}, threads forced on:\n`);
-  for (const seconds of [2, 5, 10, 30, 60]) {
+  for (const seconds of [10, 60, 180, 300]) {
     const path = join(DIR, `capture-${seconds}s-96k-24bit-stereo.wav`);
     if (!existsSync(path)) makeCapture(path, seconds / 60);
     warmCache(path);

@@ -29,11 +29,13 @@ import { readFileChunks } from './file-chunks';
 // repay starting a thread, are analysed in the calling thread.
 
 /**
- * Below this many samples (frames × channels) one thread is quicker: starting a thread and loading
- * the engine into it costs about 0.15 s here, which a share of 2 × 5 s at 96 kHz only just repays.
- * Measured with `npm run bench -- --break-even` on this 2-core machine.
+ * Below this many samples (frames × channels) one thread is quicker. The pass costs about 2.5 ms
+ * of CPU per second of 96 kHz stereo (0.75 s for 5 minutes), so a second thread saves about
+ * 1.25 ms per second of capture, while starting it — loading the bundle, a cold compiler, the
+ * file read and decoded once more — cost about 0.24 s of CPU in `npm run bench` on this 2-core
+ * machine. They meet near 3 minutes of 96 kHz stereo; `npm run bench -- --break-even` shows it.
  */
-export const THREAD_BREAK_EVEN_SAMPLES = 2 * 96_000 * 5;
+export const THREAD_BREAK_EVEN_SAMPLES = 2 * 96_000 * 180;
 
 export interface ThreadOptions {
   /** Threads to use in all (default: the machine's cores). 1 analyses in the calling thread. */
