@@ -62,7 +62,7 @@ const partLabel = (p: { reference: string; description: string; partNumber: stri
 /**
  * One line for the top of the history: how many earlier units, and the part replaced on most of
  * them ("3 earlier units: input selector switch IC replaced on 2"). Parts are counted once per
- * job, grouped by description without regard to case.
+ * job, grouped by description without regard to case; the spelling shown is the newest job's (jobs come newest first).
  */
 export function summariseHistory(jobs: Pick<HistoryJob, 'parts'>[]): string {
   if (jobs.length === 0) return 'No earlier units of this model in this shop';
