@@ -62,9 +62,9 @@ describe('model matching', () => {
   });
 
   it('finds every spelling of the model and none of the near misses', async () => {
-    const same = [];
+    const same: number[] = [];
     for (const [maker, model] of SAME) same.push((await addJob(shop.shopId, shop.customerId, maker, model)).jobId);
-    const different = [];
+    const different: number[] = [];
     for (const [maker, model] of DIFFERENT) different.push((await addJob(shop.shopId, shop.customerId, maker, model)).jobId);
     const res = await owner.get<ModelHistory>('/api/model-history?maker=harrowgate&model=hx120');
     expect(res.status).toBe(200);
