@@ -25,10 +25,10 @@ ALTER TABLE "api_tokens" ADD CONSTRAINT "api_tokens_user_id_users_id_fk" FOREIGN
 ALTER TABLE "api_tokens" ADD CONSTRAINT "api_tokens_revoked_by_users_id_fk" FOREIGN KEY ("revoked_by") REFERENCES "public"."users"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 CREATE UNIQUE INDEX "api_tokens_hash_idx" ON "api_tokens" USING btree ("token_hash");--> statement-breakpoint
 CREATE INDEX "api_tokens_shop_user_idx" ON "api_tokens" USING btree ("shop_id","user_id");--> statement-breakpoint
-CREATE INDEX "customers_search_idx" ON "customers" USING gin ("search_vector");--> statement-breakpoint
+CREATE INDEX "customers_search_idx" ON "customers" USING gin ("search_vector") WITH (fastupdate=false);--> statement-breakpoint
 CREATE INDEX "units_model_key_idx" ON "units" USING btree ("shop_id","model_key");--> statement-breakpoint
 CREATE INDEX "units_serial_key_idx" ON "units" USING btree ("shop_id","serial_key" text_pattern_ops);--> statement-breakpoint
-CREATE INDEX "units_search_idx" ON "units" USING gin ("search_vector");--> statement-breakpoint
-CREATE INDEX "job_events_search_idx" ON "job_events" USING gin ("search_vector");--> statement-breakpoint
+CREATE INDEX "units_search_idx" ON "units" USING gin ("search_vector") WITH (fastupdate=false);--> statement-breakpoint
+CREATE INDEX "job_events_search_idx" ON "job_events" USING gin ("search_vector") WITH (fastupdate=false);--> statement-breakpoint
 CREATE INDEX "jobs_unit_idx" ON "jobs" USING btree ("unit_id");--> statement-breakpoint
-CREATE INDEX "jobs_search_idx" ON "jobs" USING gin ("search_vector");
+CREATE INDEX "jobs_search_idx" ON "jobs" USING gin ("search_vector") WITH (fastupdate=false);

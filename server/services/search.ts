@@ -1,5 +1,6 @@
 import { sql, type SQL } from 'drizzle-orm';
 import type { DbOrTx } from '../db/client';
+// Column names below are the schema's snake_case names (server/db/schema/).
 import { customers, jobEvents, jobs, units } from '../db/schema/index';
 import { SEARCH_CONFIG } from '../db/schema/search-columns';
 import type { SessionUser } from '../../shared/auth';
@@ -19,6 +20,8 @@ interface HitRow extends Record<string, unknown> {
 /** Extra rank for an exact job reference or serial, so the record asked for by name comes first. */
 const EXACT_BONUS = 10;
 const PREFIX_BONUS = 1;
+/** How many of the newest matches of each kind are ranked. */
+const CANDIDATES = 400;
 
 /**
  * Shop search over jobs (fault as reported and found, intake remarks), job notes, units (maker,
@@ -26,7 +29,7 @@ const PREFIX_BONUS = 1;
  * references also match by prefix or number. Staff see their shop; a customer only their own
  * jobs and units, and neither notes nor other customers.
  */
-export async function searchShop(db: DbOrTx, viewer: SessionUser, query: SearchQuery): Promise<SearchHit[]> {
+export function searchStatement(viewer: SessionUser, query: SearchQuery): SQL {
   const shopId = viewer.shop.id;
   const customerOnly = viewer.role === 'customer';
   const ownCustomer = viewer.customerId ?? -1;
@@ -37,59 +40,77 @@ export async function searchShop(db: DbOrTx, viewer: SessionUser, query: SearchQ
   const tsq = sql`to_tsquery(${SEARCH_CONFIG}, ${text})`;
   const matches = (vector: SQL) => (text ? sql`${vector} @@ ${tsq}` : sql`false`);
   const rank = (vector: SQL) => (text ? sql`ts_rank(${vector}, ${tsq})` : sql`0`);
-  const jobCustomer = customerOnly ? sql`and ${jobs.customerId} = ${ownCustomer}` : sql``;
-  const unitCustomer = customerOnly ? sql`and ${units.customerId} = ${ownCustomer}` : sql``;
+  const ownOnly = (column: SQL) => (customerOnly ? sql`and ${column} = ${ownCustomer}` : sql``);
 
+  // Each kind ranks at most the CANDIDATES newest matches: a word every tenth job carries would
+  // otherwise be ranked across thousands of rows on every keystroke. Fewer matches are all ranked.
+  const jobCandidates = sql`(
+    select j.id, j.search_vector from ${jobs} j
+    where j.shop_id = ${shopId} ${ownOnly(sql`j.customer_id`)} and ${matches(sql`j.search_vector`)}
+    order by j.id desc limit ${CANDIDATES})`;
+  const jobColumns = (rankExpr: SQL) => sql`
+    select 'job' as "kind", j.id as "id", j.id as "jobId", j.customer_id as "customerId",
+      u.maker || ' ' || u.model || ' · ' || c.name as "title",
+      j.reported_fault || case when j.fault_found <> '' then ' — found: ' || j.fault_found else '' end as "detail",
+      ${rankExpr} as "rank"`;
+  // Text matches and the job named by its reference are separate branches, so each uses its own
+  // index (an OR of the two would read every job of the shop).
   const jobHits = sql`(
-    select 'job' as "kind", ${jobs.id} as "id", ${jobs.id} as "jobId", ${jobs.customerId} as "customerId",
-      ${units.maker} || ' ' || ${units.model} || ' · ' || ${customers.name} as "title",
-      ${jobs.reportedFault} || case when ${jobs.faultFound} <> '' then ' — found: ' || ${jobs.faultFound} else '' end as "detail",
-      ${rank(sql`${jobs.searchVector}`)} + case when ${jobs.id} = ${refId ?? -1} then ${EXACT_BONUS} else 0 end as "rank"
-    from ${jobs}
-    join ${units} on ${units.id} = ${jobs.unitId}
-    join ${customers} on ${customers.id} = ${jobs.customerId}
-    where ${jobs.shopId} = ${shopId} ${jobCustomer}
-      and (${matches(sql`${jobs.searchVector}`)} or ${jobs.id} = ${refId ?? -1})
-    order by "rank" desc, ${jobs.id} desc limit ${limit})`;
+    ${jobColumns(rank(sql`m.search_vector`))}
+    from ${jobCandidates} m
+    join ${jobs} j on j.id = m.id join ${units} u on u.id = j.unit_id join ${customers} c on c.id = j.customer_id
+    order by "rank" desc, j.id desc limit ${limit})
+    union all (
+    ${jobColumns(sql`${EXACT_BONUS}::real`)}
+    from ${jobs} j join ${units} u on u.id = j.unit_id join ${customers} c on c.id = j.customer_id
+    where j.shop_id = ${shopId} ${ownOnly(sql`j.customer_id`)} and j.id = ${refId ?? -1})`;
 
-  const serialMatch = serial ? sql`(${units.serialKey} like ${`${serial}%`})` : sql`false`;
+  const serialMatch = serial ? sql`(u.serial_key like ${`${serial}%`})` : sql`false`;
   const unitHits = sql`(
-    select 'unit' as "kind", ${units.id} as "id",
-      (select max(j2.id) from ${jobs} j2 where j2.unit_id = ${units.id} and j2.shop_id = ${shopId}) as "jobId",
-      ${units.customerId} as "customerId",
-      ${units.maker} || ' ' || ${units.model} as "title",
-      case when ${units.serial} <> '' then 'Serial ' || ${units.serial} || ' · ' else '' end || ${customers.name} as "detail",
-      ${rank(sql`${units.searchVector}`)}
-        + case when ${units.serialKey} = ${serial ?? ''} then ${EXACT_BONUS} when ${serialMatch} then ${PREFIX_BONUS} else 0 end as "rank"
-    from ${units}
-    join ${customers} on ${customers.id} = ${units.customerId}
-    where ${units.shopId} = ${shopId} ${unitCustomer}
-      and (${matches(sql`${units.searchVector}`)} or ${serialMatch})
-    order by "rank" desc, ${units.id} desc limit ${limit})`;
+    select 'unit' as "kind", u.id as "id",
+      (select max(j2.id) from ${jobs} j2 where j2.unit_id = u.id and j2.shop_id = ${shopId}) as "jobId",
+      u.customer_id as "customerId",
+      u.maker || ' ' || u.model as "title",
+      case when u.serial <> '' then 'Serial ' || u.serial || ' · ' else '' end || c.name as "detail",
+      ${rank(sql`u.search_vector`)}
+        + case when u.serial_key = ${serial ?? ''} then ${EXACT_BONUS} when ${serialMatch} then ${PREFIX_BONUS} else 0 end as "rank"
+    from (
+      (select u.id from ${units} u where u.shop_id = ${shopId} ${ownOnly(sql`u.customer_id`)} and ${matches(sql`u.search_vector`)} order by u.id desc limit ${CANDIDATES})
+      union
+      (select u.id from ${units} u where u.shop_id = ${shopId} ${ownOnly(sql`u.customer_id`)} and ${serialMatch} order by u.serial_key limit ${CANDIDATES})
+    ) m
+    join ${units} u on u.id = m.id join ${customers} c on c.id = u.customer_id
+    order by "rank" desc, u.id desc limit ${limit})`;
 
   const staffOnly = customerOnly
     ? sql``
     : sql`
     union all (
-    select 'customer' as "kind", ${customers.id} as "id", null::int as "jobId", ${customers.id} as "customerId",
-      ${customers.name} as "title", concat_ws(' · ', nullif(${customers.email}, ''), nullif(${customers.phone}, '')) as "detail",
-      ${rank(sql`${customers.searchVector}`)} as "rank"
-    from ${customers}
-    where ${customers.shopId} = ${shopId} and ${matches(sql`${customers.searchVector}`)}
-    order by "rank" desc, ${customers.id} desc limit ${limit})
+    select 'customer' as "kind", c.id as "id", null::int as "jobId", c.id as "customerId",
+      c.name as "title", concat_ws(' · ', nullif(c.email, ''), nullif(c.phone, '')) as "detail",
+      ${rank(sql`c.search_vector`)} as "rank"
+    from (select c.id from ${customers} c where c.shop_id = ${shopId} and ${matches(sql`c.search_vector`)} order by c.id desc limit ${CANDIDATES}) m
+    join ${customers} c on c.id = m.id
+    order by "rank" desc, c.id desc limit ${limit})
     union all (
-    select 'note' as "kind", ${jobEvents.id} as "id", ${jobEvents.jobId} as "jobId", ${jobs.customerId} as "customerId",
-      'Note on ' || 'J-' || lpad(${jobEvents.jobId}::text, 4, '0') as "title", ${jobEvents.note} as "detail",
-      ${rank(sql`${jobEvents.searchVector}`)} as "rank"
-    from ${jobEvents}
-    join ${jobs} on ${jobs.id} = ${jobEvents.jobId}
-    where ${jobEvents.shopId} = ${shopId} and ${jobEvents.note} <> '' and ${matches(sql`${jobEvents.searchVector}`)}
-    order by "rank" desc, ${jobEvents.id} desc limit ${limit})`;
+    select 'note' as "kind", e.id as "id", e.job_id as "jobId", j.customer_id as "customerId",
+      'Note on J-' || lpad(e.job_id::text, 4, '0') as "title", e.note as "detail",
+      ${rank(sql`e.search_vector`)} as "rank"
+    from (select e.id from ${jobEvents} e where e.shop_id = ${shopId} and e.note <> '' and ${matches(sql`e.search_vector`)} order by e.id desc limit ${CANDIDATES}) m
+    join ${jobEvents} e on e.id = m.id join ${jobs} j on j.id = e.job_id
+    order by "rank" desc, e.id desc limit ${limit})`;
 
-  const result = await db.execute<HitRow>(sql`
-    select * from (${jobHits} union all ${unitHits} ${staffOnly}) hits
+  return sql`
+    select * from (
+      select distinct on ("kind", "id") * from (${jobHits} union all ${unitHits} ${staffOnly}) hits
+      order by "kind", "id", "rank" desc
+    ) best
     order by "rank" desc, "kind", "id" desc
-    limit ${limit}`);
+    limit ${limit}`;
+}
+
+export async function searchShop(db: DbOrTx, viewer: SessionUser, query: SearchQuery): Promise<SearchHit[]> {
+  const result = await db.execute<HitRow>(searchStatement(viewer, query));
   return result.rows.map((r) => ({
     kind: r.kind,
     id: Number(r.id),

@@ -24,7 +24,7 @@ export const customers = pgTable(
           sql`setweight(to_tsvector(${SEARCH_CONFIG}, ${customers.name}), 'A') || setweight(to_tsvector(${SEARCH_CONFIG}, ${customers.email} || ' ' || ${customers.phone}), 'B') || setweight(to_tsvector(${SEARCH_CONFIG}, ${customers.notes}), 'C')`,
       ),
   },
-  (t) => [index('customers_shop_idx').on(t.shopId), index('customers_search_idx').using('gin', t.searchVector)],
+  (t) => [index('customers_shop_idx').on(t.shopId), index('customers_search_idx').using('gin', t.searchVector).with({ fastupdate: false })],
 );
 
 export const units = pgTable(
@@ -58,7 +58,7 @@ export const units = pgTable(
     index('units_customer_idx').on(t.customerId),
     index('units_model_key_idx').on(t.shopId, t.modelKey),
     index('units_serial_key_idx').on(t.shopId, t.serialKey.op('text_pattern_ops')),
-    index('units_search_idx').using('gin', t.searchVector),
+    index('units_search_idx').using('gin', t.searchVector).with({ fastupdate: false }),
   ],
 );
 

@@ -35,7 +35,7 @@ export const jobs = pgTable(
     index('jobs_shop_idx').on(t.shopId, t.status),
     index('jobs_customer_idx').on(t.customerId),
     index('jobs_unit_idx').on(t.unitId),
-    index('jobs_search_idx').using('gin', t.searchVector),
+    index('jobs_search_idx').using('gin', t.searchVector).with({ fastupdate: false }),
   ],
 );
 
@@ -58,7 +58,7 @@ export const jobEvents = pgTable(
       .notNull()
       .generatedAlwaysAs((): SQL => sql`to_tsvector(${SEARCH_CONFIG}, ${jobEvents.note})`),
   },
-  (t) => [index('job_events_job_idx').on(t.jobId, t.at), index('job_events_search_idx').using('gin', t.searchVector)],
+  (t) => [index('job_events_job_idx').on(t.jobId, t.at), index('job_events_search_idx').using('gin', t.searchVector).with({ fastupdate: false })],
 );
 
 /** Ordered stages of the unit's signal path where the technician probes. */
