@@ -41,7 +41,8 @@ const fixed = (v: number | null | undefined, digits: number, unit: string) => (v
 export function headline(f: CaptureFigures): string {
   const parts = [
     `level ${fixed(f.levelDbfs, 1, 'dBFS')}`,
-    `THD ${fixed(f.thdPct, 4, '%')}`,
+    // Significant figures rather than decimals: a clean stage reads 0.00007 %, a faulty one 1.2 %.
+    `THD ${f.thdPct === null ? '–' : `${Number(f.thdPct.toPrecision(2))} %`}`,
     `THD+N ${fixed(f.thdnDb, 1, 'dB')}`,
     `noise (A) ${fixed(f.noiseDbfsA, 1, 'dBFS')}`,
     `separation ${f.separationDb === null ? '–' : `${f.separationNoiseLimited ? '≥ ' : ''}${f.separationDb.toFixed(1)} dB`}`,

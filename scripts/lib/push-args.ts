@@ -110,9 +110,10 @@ export function parsePushArgs(argv: string[], env: NodeJS.ProcessEnv): PushOptio
   const checked = captureFileMetaSchema.safeParse({ ...meta, testPointId: 1 });
   if (!checked.success) {
     const issue = checked.error.issues[0]!;
-    const field = issue.path.join('.');
-    const flag = field === 'selectedInput' ? '--selected' : field === 'drivenInput' ? '--driven' : field ? `--${field}` : 'a flag';
-    throw usage(`${flag}: ${issue.code === 'unrecognized_keys' ? `this version does not take ${issue.message}` : issue.message}`);
+    if (issue.code === 'unrecognized_keys') throw usage('--selected and --driven need a Quietpath version that records input tags on captures');
+    const field = String(issue.path[0] ?? '');
+    const flag = field === 'selectedInput' ? '--selected' : field === 'drivenInput' ? '--driven' : `--${field}`;
+    throw usage(`${flag}: ${issue.message}`);
   }
   return { files: positionals, jobId, jobText: values.job, point: values.point.trim(), meta: meta as PushOptions['meta'], waitS, json: values.json, baseUrl, token };
 }
