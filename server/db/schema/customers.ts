@@ -1,4 +1,4 @@
-import { pgTable, pgEnum, integer, text, timestamp, doublePrecision, index } from 'drizzle-orm/pg-core';
+import { pgTable, pgEnum, integer, text, timestamp, doublePrecision, index, jsonb } from 'drizzle-orm/pg-core';
 import { sql, type SQL } from 'drizzle-orm';
 import { UNIT_KINDS } from '../../../shared/customers';
 import { shops } from './shop';
@@ -38,6 +38,8 @@ export const units = pgTable(
     model: text().notNull(),
     serial: text().notNull().default(''),
     notes: text().notNull().default(''),
+    /** Source inputs on the selector, in the unit's spelling; empty = the usual ones for its kind. */
+    inputs: jsonb().$type<string[]>().notNull().default([]),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     /** Maker and model as one forgiving key: earlier jobs on the same model are found by it. */
     modelKey: text()
@@ -71,6 +73,8 @@ export const specSheets = pgTable(
     maker: text().notNull(),
     model: text().notNull(),
     notes: text().notNull().default(''),
+    /** Source inputs the model has, as published. */
+    inputs: jsonb().$type<string[]>().notNull().default([]),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [index('spec_sheets_shop_idx').on(t.shopId)],
