@@ -104,13 +104,12 @@ export function parsePushArgs(argv: string[], env: NodeJS.ProcessEnv): PushOptio
   }
 
   const meta: Record<string, unknown> = { phase, stimulus, notes: values.notes ?? '' };
-  // Input tags go in only when given, and only if this version's upload details know them.
+  // Input tags go in only when given; the server matches them to the unit's inputs.
   if (values.selected !== undefined) meta.selectedInput = values.selected;
   if (values.driven !== undefined) meta.drivenInput = values.driven;
   const checked = captureFileMetaSchema.safeParse({ ...meta, testPointId: 1 });
   if (!checked.success) {
     const issue = checked.error.issues[0]!;
-    if (issue.code === 'unrecognized_keys') throw usage('--selected and --driven need a Quietpath version that records input tags on captures');
     const field = String(issue.path[0] ?? '');
     const flag = field === 'selectedInput' ? '--selected' : field === 'drivenInput' ? '--driven' : `--${field}`;
     throw usage(`${flag}: ${issue.message}`);

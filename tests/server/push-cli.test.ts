@@ -99,6 +99,18 @@ describe('npm run push', () => {
     expect(run.stdout).toMatch(/long-tone\.wav: level -10\.0 dBFS · THD /);
   });
 
+  it('--selected and --driven tag the captures with the inputs, in the unit\'s spelling; an unknown input is refused', async () => {
+    const run = await push([SAMPLE('crosstalk-left-driven.wav'), '--job', ref(), '--point', 'Input socket', '--phase', 'before', '--selected', 'disc', '--driven', 'TUNER', '--json']);
+    expect(run.stderr).toBe('');
+    expect(run.code).toBe(EXIT.ok);
+    const id = (JSON.parse(run.stdout) as { captures: { id: number }[] }).captures[0]!.id;
+    const capture = await tech.get<{ selectedInput: string | null; drivenInput: string | null }>(`/api/captures/${id}`);
+    expect(capture.body).toMatchObject({ selectedInput: 'Disc', drivenInput: 'Tuner' });
+    const unknown = await push([SAMPLE('crosstalk-left-driven.wav'), '--job', ref(), '--point', 'Input socket', '--phase', 'before', '--selected', 'cassette deck']);
+    expect(unknown.code).toBe(EXIT.refused);
+    expect(unknown.stderr).toMatch(/The server refused the upload: .*cassette deck/i);
+  });
+
   it('a wrong job or test point: exit 4 with a clear message', async () => {
     const job = await push([SAMPLE('tone-997hz-clean.wav'), '--job', 'J-999999999', '--point', 'Input socket', '--phase', 'before']);
     expect(job.code).toBe(EXIT.notFound);
