@@ -47,7 +47,7 @@ const FIGURE_COLUMNS: [keyof CaptureFigures, string][] = [
 /** One row per measured capture of the job, oldest first, every headline figure in its own column. */
 export function figuresCsv(reference: string, list: CaptureSummary[]): string {
   const measured = list.filter((c) => c.state === 'done' && c.figures).sort((a, b) => a.createdAt.localeCompare(b.createdAt) || a.id - b.id);
-  const header = ['Job', 'Capture', 'File', 'Test point position', 'Test point', 'Phase', 'Stimulus', 'Driven channel', 'Recorded at (UTC)', 'Engine version', ...FIGURE_COLUMNS.map(([, label]) => label)];
+  const header = ['Job', 'Capture', 'File', 'Test point position', 'Test point', 'Phase', 'Stimulus', 'Selected input', 'Driven input', 'Driven channel', 'Recorded at (UTC)', 'Engine version', ...FIGURE_COLUMNS.map(([, label]) => label)];
   const rows = measured.map((c) => {
     const f = c.figures!;
     return [
@@ -58,6 +58,8 @@ export function figuresCsv(reference: string, list: CaptureSummary[]): string {
       c.testPointName,
       c.phase,
       c.stimulus,
+      c.selectedInput,
+      c.drivenInput,
       f.drivenChannel,
       c.createdAt,
       c.engineVersion,

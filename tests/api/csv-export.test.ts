@@ -44,7 +44,7 @@ beforeAll(async () => {
   // A name with a comma and quotes, to prove the quoting.
   await db.update(testPoints).set({ name: 'Selector "B", output' }).where(eq(testPoints.id, bench.testPointIds[1]!));
   const res = await upload(tech, bench.jobId, [
-    { name: 'harmonics.wav', bytes: sample('tone-997hz-harmonics.wav'), meta: { phase: 'before', stimulus: 'tone', testPointId: bench.testPointIds[1]! } },
+    { name: 'harmonics.wav', bytes: sample('tone-997hz-harmonics.wav'), meta: { phase: 'before', stimulus: 'tone', testPointId: bench.testPointIds[1]!, selectedInput: 'disc', drivenInput: 'disc' } },
     { name: 'clean.wav', bytes: sample('tone-997hz-clean.wav'), meta: { phase: 'after', stimulus: 'tone', testPointId: bench.testPointIds[1]! } },
   ]);
   expect(res.status).toBe(201);
@@ -73,6 +73,7 @@ describe('CSV export', () => {
     expect(Number(harmonics[col('Level (dBFS)')])).toBeCloseTo(-10, 1);
     expect(harmonics[col('Test point')]).toBe('Selector "B", output');
     expect(harmonics[col('Phase')]).toBe('before');
+    expect([harmonics[col('Selected input')], harmonics[col('Driven input')]]).toEqual(['Disc', 'Disc']);
     expect(rows.every((r) => r.length === header!.length)).toBe(true);
   });
 
