@@ -5,7 +5,8 @@
  *     p50 and p99 latency in three rounds; target: median p99 < 100 ms.
  *  2. Shop search on a seeded shop of 50,000 jobs (bulk-inserted after step 1, so the job-list
  *     figures stay those of the demo shop): a mix of common and rare words, serials and job
- *     references, one client at a time as a person types, then 10 at once; p50/p99; target p99 < 100 ms.
+ *     references, one client at a time as a person types (three rounds, median p99), then 10 at once;
+ *     target: median p99 < 100 ms.
  *  3. 10 concurrent 50 MB WAV uploads, then the time until all are analysed.
  */
 import { execFile, execFileSync } from 'node:child_process';
@@ -139,8 +140,10 @@ const percentile = (xs: number[], p: number) => {
 };
 
 /**
- * Search latency as a person sees it: every query in turn from one client (30 rounds after a
- * warm-up), then the same with 10 clients at once. Times are whole HTTP round trips.
+ * Search latency as a person sees it: every query in turn from one client, 30 passes per round
+ * after a warm-up, in ROUNDS rounds judged on the median p99 (as the load figures above, since one
+ * round can land in a slow spell of the shared machine); then 10 clients at once. Times are whole
+ * HTTP round trips.
  */
 async function searchLatency(base: string, cookie: string) {
   const once = async (q: string) => {
@@ -152,15 +155,21 @@ async function searchLatency(base: string, cookie: string) {
   };
   for (const q of SEARCH_QUERIES) await once(q);
   const perQuery = new Map<string, { ms: number[]; hits: number }>();
-  const all: number[] = [];
-  for (let round = 0; round < 30; round++) {
-    for (const q of SEARCH_QUERIES) {
-      const r = await once(q);
-      const entry = perQuery.get(q) ?? { ms: [], hits: r.hits };
-      entry.ms.push(r.ms);
-      perQuery.set(q, entry);
-      all.push(r.ms);
+  const roundP99: number[] = [];
+  const roundP50: number[] = [];
+  for (let round = 0; round < ROUNDS; round++) {
+    const times: number[] = [];
+    for (let pass = 0; pass < 30; pass++) {
+      for (const q of SEARCH_QUERIES) {
+        const r = await once(q);
+        const entry = perQuery.get(q) ?? { ms: [], hits: r.hits };
+        entry.ms.push(r.ms);
+        perQuery.set(q, entry);
+        times.push(r.ms);
+      }
     }
+    roundP50.push(percentile(times, 50));
+    roundP99.push(percentile(times, 99));
   }
   const concurrent: number[] = [];
   await Promise.all(
@@ -169,10 +178,15 @@ async function searchLatency(base: string, cookie: string) {
     }),
   );
   const round1 = (x: number) => Number(x.toFixed(1));
-  const rows = [...perQuery].map(([q, e]) => ({ query: q, hits: e.hits, p50Ms: round1(percentile(e.ms, 50)), p99Ms: round1(percentile(e.ms, 99)) }));
-  rows.push({ query: 'all, one client', hits: NaN, p50Ms: round1(percentile(all, 50)), p99Ms: round1(percentile(all, 99)) });
-  rows.push({ query: 'all, 10 clients', hits: NaN, p50Ms: round1(percentile(concurrent, 50)), p99Ms: round1(percentile(concurrent, 99)) });
-  return { rows, p99Ms: round1(percentile(all, 99)), p99ConcurrentMs: round1(percentile(concurrent, 99)) };
+  const rows: { query: string; hits: number | string; p50Ms: number | string; p99Ms: number | string }[] = [...perQuery].map(([q, e]) => ({
+    query: q,
+    hits: e.hits,
+    p50Ms: round1(percentile(e.ms, 50)),
+    p99Ms: round1(percentile(e.ms, 99)),
+  }));
+  rows.push({ query: 'all, one client, per round', hits: '', p50Ms: roundP50.map(round1).join(' / '), p99Ms: roundP99.map(round1).join(' / ') });
+  rows.push({ query: 'all, 10 clients', hits: '', p50Ms: round1(percentile(concurrent, 50)), p99Ms: round1(percentile(concurrent, 99)) });
+  return { rows, p99Ms: round1(median(roundP99)), p99ConcurrentMs: round1(percentile(concurrent, 99)) };
 }
 
 async function main() {
@@ -220,7 +234,7 @@ async function main() {
     else console.log('BENCH_URL given: searching the data that server already holds (no 50,000-job seed)');
     const search = await searchLatency(base, auth.cookie);
     console.table(search.rows);
-    console.log(`search, ${SEARCH_JOBS} jobs: p99 ${search.p99Ms} ms one client at a time — ${search.p99Ms < P99_TARGET_MS ? 'within' : 'OVER'} the ${P99_TARGET_MS} ms target`);
+    console.log(`search, ${SEARCH_JOBS} jobs: median p99 ${search.p99Ms} ms one client at a time (${search.p99ConcurrentMs} ms with 10 at once) — ${search.p99Ms < P99_TARGET_MS ? 'within' : 'OVER'} the ${P99_TARGET_MS} ms target`);
     if (process.argv.includes('--skip-uploads') || process.argv.includes('--only-search')) return;
     console.log('10 concurrent 50 MB uploads…');
     console.table([await uploads(base, auth, 1)]);
