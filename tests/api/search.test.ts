@@ -84,8 +84,10 @@ describe('search ranking and matching', () => {
     expect((await search(as.technician, 'transformer')).filter((h) => h.kind === 'note').map((h) => h.jobId)).toEqual([ids.theirs]);
   });
 
-  it('rejects an empty query', async () => {
+  it('rejects an empty query; punctuation or stop words alone find nothing rather than fail', async () => {
     expect((await as.owner.get('/api/search?q=')).status).toBe(400);
+    expect(await search(as.owner, '&!:*(')).toEqual([]);
+    expect(await search(as.owner, 'the')).toEqual([]);
   });
 });
 
