@@ -204,6 +204,7 @@ async function uploadToResult(base: string, auth: { cookie: string; csrf: string
     'CLI analysis ms (best of 3)': cliMs.toFixed(0),
     'target total ms': `${target.toFixed(0)} — ${p50(pick('totalMs')) <= target ? 'within' : 'OVER'}`,
   };
+}
 
 const SEARCH_JOBS = 50_000;
 /** What people type into the box: common words, rarer ones, two words, a serial, a reference, a name. */
