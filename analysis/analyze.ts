@@ -18,7 +18,8 @@ import { MAX_HEADER_BYTES, parseWavHeader, WavFormatError } from './wav-header';
 // One streaming pass over a WAV file: bytes in (any chunking), result out. Memory is bounded by
 // the block size, the FFT frames in flight and the fixed-size summaries — not by the file length.
 
-export const ENGINE_VERSION = '1.0.0';
+/** 1.1: clicks are what neither side of the signal predicts, with bursts as one event (clicks.ts). */
+export const ENGINE_VERSION = '1.1.0';
 
 /** Sweep energy needs every frame; when the stimulus is not given it is gathered only this far. */
 const AUTO_SWEEP_MAX_SECONDS = 30;

@@ -53,6 +53,7 @@ export async function analyseCapture(db: Db, filesDir: string, captureId: number
     const raw = await analyzeFileInThreads(storagePath(filesDir, capture.sha256), options, {
       shareCallingThread: false,
       chunkBytes: 256 * 1024,
+      keepThreads: true,
     });
     const result = analysisResultSchema.parse(raw);
     const figures = figuresFromResult(result, { loadOhms: capture.loadOhms });

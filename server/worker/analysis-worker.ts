@@ -3,6 +3,7 @@ import type { Db } from '../db/client';
 import { captures } from '../db/schema/index';
 import { ANALYSIS_QUEUE, PGBOSS_SCHEMA, type AnalysisJobData, type AnalysisQueue } from '../services/analysis-queue';
 import { analyseCapture } from './analyse-capture';
+import { endIdleAnalysisThreads } from './channel-threads';
 
 // The queue worker: takes capture-analysis jobs one at a time and, now and then, looks for
 // captures that are waiting with no job behind them (demo data, a job lost with a killed worker).
@@ -47,6 +48,7 @@ export async function startAnalysisWorker(options: WorkerOptions): Promise<Analy
     async stop() {
       clearInterval(timer);
       await queue.boss.offWork(ANALYSIS_QUEUE);
+      await endIdleAnalysisThreads();
     },
   };
 }

@@ -25,7 +25,8 @@ export async function measureShare(task: ThreadTask): Promise<ChannelShare> {
 
 if (parentPort && (workerData as { channelThread?: boolean } | null)?.channelThread) {
   const port = parentPort;
-  port.once('message', (task: ThreadTask) => {
+  // One task at a time: the caller sends the next only after this one's reply.
+  port.on('message', (task: ThreadTask) => {
     measureShare(task).then(
       (share) => port.postMessage({ ok: true, share } satisfies ThreadReply),
       (err: unknown) => {

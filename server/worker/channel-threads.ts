@@ -49,6 +49,12 @@ export interface ThreadOptions {
   ignoreBreakEven?: boolean;
   /** Read size when the calling thread analyses alone (a server keeps it small: requests wait between reads). */
   chunkBytes?: number;
+  /**
+   * Keep the threads, idle, for the next analysis (a server: a warm thread skips start-up and
+   * compiling). They end after 30 s unused and never keep the process alive. Threads that
+   * failed are never kept.
+   */
+  keepThreads?: boolean;
 }
 
 let liveThreads = 0;
@@ -112,38 +118,96 @@ function threadModule(): Promise<URL> {
   return threadCode;
 }
 
-function startThread(code: URL, task: ThreadTask): { done: Promise<ChannelShare>; stop: () => Promise<void> } {
+/** Ends the threads kept idle (a server shutting down, a test cleaning up). */
+export async function endIdleAnalysisThreads(): Promise<void> {
+  await Promise.all([...idle].map(stop));
+}
+
+/** A running analysis thread; `kept` ones wait idle for the next capture (see keepThreads). */
+interface Thread {
+  worker: Worker;
+  gone: Promise<void>;
+  exited: boolean;
+  idleTimer: NodeJS.Timeout | null;
+}
+
+const idle: Thread[] = [];
+/** A kept thread idle this long ends: a server between captures holds no threads for long. */
+const IDLE_MS = 30_000;
+
+function spawn(code: URL): Thread {
   const worker = new Worker(code, {
     workerData: { channelThread: true },
     // Plain JavaScript: none of the parent's loader flags (a test runner's, for one).
     execArgv: [],
   });
   liveThreads++;
-  let exited = false;
-  const gone = new Promise<void>((resolve) =>
+  const thread: Thread = { worker, gone: Promise.resolve(), exited: false, idleTimer: null };
+  thread.gone = new Promise<void>((resolve) =>
     worker.once('exit', () => {
-      exited = true;
+      thread.exited = true;
       liveThreads--;
+      if (thread.idleTimer) clearTimeout(thread.idleTimer);
+      const at = idle.indexOf(thread);
+      if (at >= 0) idle.splice(at, 1);
       resolve();
     }),
   );
+  return thread;
+}
+
+function take(code: URL): Thread {
+  const t = idle.pop();
+  if (!t) return spawn(code);
+  if (t.idleTimer) clearTimeout(t.idleTimer);
+  t.idleTimer = null;
+  t.worker.ref();
+  return t;
+}
+
+function keep(t: Thread): void {
+  if (t.exited) return;
+  t.worker.unref();
+  t.idleTimer = setTimeout(() => void stop(t), IDLE_MS);
+  t.idleTimer.unref();
+  idle.push(t);
+}
+
+async function stop(t: Thread): Promise<void> {
+  const at = idle.indexOf(t);
+  if (at >= 0) idle.splice(at, 1);
+  if (!t.exited) await t.worker.terminate();
+  await t.gone;
+}
+
+/** Runs one task on a thread: its share, or the thread's error rebuilt here. */
+function run(t: Thread, task: ThreadTask): Promise<ChannelShare> {
   const where = `analysis thread for channel${task.channels.length > 1 ? 's' : ''} ${task.channels.join(', ')}`;
-  const done = new Promise<ChannelShare>((resolve, reject) => {
-    worker.once('message', (reply: ThreadReply) => {
+  const w = t.worker;
+  return new Promise<ChannelShare>((resolve, reject) => {
+    const onMessage = (reply: ThreadReply) => {
+      off();
       if (reply.ok) resolve(reply.share);
       else reject(rebuild(reply.error, where));
-    });
-    worker.once('error', (err) => reject(new Error(`${where} failed: ${err.message}`)));
-    worker.once('exit', (code) => reject(new Error(`${where} stopped (exit code ${code}) before it reported`)));
+    };
+    const onError = (err: Error) => {
+      off();
+      reject(new Error(`${where} failed: ${err.message}`));
+    };
+    const onExit = (code: number) => {
+      off();
+      reject(new Error(`${where} stopped (exit code ${code}) before it reported`));
+    };
+    const off = () => {
+      w.off('message', onMessage);
+      w.off('error', onError);
+      w.off('exit', onExit);
+    };
+    w.on('message', onMessage);
+    w.on('error', onError);
+    w.on('exit', onExit);
+    w.postMessage(task);
   });
-  worker.postMessage(task);
-  return {
-    done,
-    stop: async () => {
-      if (!exited) await worker.terminate();
-      await gone;
-    },
-  };
 }
 
 /** The engine's own errors keep their class (callers treat a damaged file as final); others say where they came from. */
@@ -177,12 +241,15 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
   const tasks: ThreadTask[] = groups.map((channels) => ({ path, options: parsed, channels }));
   const own = shareCalling ? tasks.shift()! : null;
   const code = await threadModule();
-  const started = tasks.map((task) => startThread(code, task));
+  const running = tasks.map(() => take(code));
+  let ok = false;
   try {
-    const parts = await Promise.all([...(own ? [measureShare(own)] : []), ...started.map((t) => t.done)]);
+    const parts = await Promise.all([...(own ? [measureShare(own)] : []), ...running.map((t, i) => run(t, tasks[i]!))]);
+    ok = true;
     return resultFromShares({ engineVersion: ENGINE_VERSION, info, options: parsed, shares: parts });
   } finally {
-    // Every thread has ended when this returns, whether the analysis worked or not.
-    await Promise.all(started.map((t) => t.stop()));
+    // When this returns every thread has ended, or (keepThreads, after a success) waits idle.
+    if (ok && how.keepThreads) running.forEach(keep);
+    else await Promise.all(running.map(stop));
   }
 }

@@ -16,7 +16,7 @@ import {
   type AnalysisResult,
   type SampleFormat,
 } from '../../analysis/index';
-import { activeAnalysisThreads, analyzeFileInThreads } from '../../server/worker/channel-threads';
+import { activeAnalysisThreads, analyzeFileInThreads, endIdleAnalysisThreads } from '../../server/worker/channel-threads';
 
 // The analysis split across worker threads by channel (server/worker/channel-threads.ts) must give
 // the single-thread result field by field — the same numbers, not close ones: each channel's
@@ -100,6 +100,25 @@ describe('threads give the single-thread result field by field', () => {
       expect(r.channels[1]!.clicks.count).toBe(1);
     });
   }
+});
+
+describe('kept threads', () => {
+  it('serve the next capture with the same results, and end when asked', async () => {
+    const ch = generateSine({ sampleRate: FS, frequencyHz: 997, levelDbfs: -10, seconds: 2, channels: 3, drivenChannels: [0] });
+    addClick(ch[2]!, FS, { frame: 40_000, amplitude: 0.01 });
+    const bytes = encodeWav(ch, FS, 24);
+    const path = save('kept.wav', bytes);
+    const how = { threads: 3, shareCallingThread: false, ignoreBreakEven: true, keepThreads: true };
+    const first = await analyzeFileInThreads(path, {}, how);
+    expect(activeAnalysisThreads()).toBe(3);
+    const second = await analyzeFileInThreads(path, {}, how);
+    // The same three threads, not three more.
+    expect(activeAnalysisThreads()).toBe(3);
+    expect(second).toStrictEqual(first);
+    expect(first).toStrictEqual(analyzeWavBytes(bytes));
+    await endIdleAnalysisThreads();
+    expect(activeAnalysisThreads()).toBe(0);
+  });
 });
 
 describe('a thread that fails', () => {
