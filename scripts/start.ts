@@ -13,6 +13,8 @@ import { seedDemo, DEMO_USERS, DEMO_PASSWORD } from '../server/db/seed';
 import { benchDemo } from '../server/db/seed-bench';
 import { seedCaptures } from '../server/db/seed-captures';
 import { startServer } from '../server/main';
+import { loadStorageSettings, openFileStore } from '../server/storage/storage-config';
+import { startLocalS3 } from './lib/local-s3';
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
 const dataDir = join(root, '.data');
@@ -24,12 +26,17 @@ async function main() {
   const { db, pool } = createDb(cluster.url);
   await runMigrations(db);
   const filesDir = process.env.FILES_DIR ?? join(dataDir, 'files');
-  const seeded = await seedDemo(db, [benchDemo, seedCaptures(filesDir)]);
+  // STORAGE=s3 without an endpoint of its own: a local S3-compatible server keeps the objects in .data/s3.
+  const localS3 =
+    process.env.STORAGE === 's3' && !process.env.S3_ENDPOINT ? await startLocalS3({ dir: join(dataDir, 's3'), port: Number(process.env.S3_PORT ?? 0) }) : null;
+  const env = { ...process.env, ...localS3?.env, FILES_DIR: filesDir };
+  const storage = loadStorageSettings(env);
+  const seeded = await seedDemo(db, [benchDemo, seedCaptures(await openFileStore(storage))]);
   await pool.end();
   const webDist = ensureWebBuild(root);
 
   const server = await startServer({
-    ...process.env,
+    ...env,
     DATABASE_URL: cluster.url,
     HOST: process.env.HOST ?? '127.0.0.1',
     PORT: process.env.PORT ?? '3000',
@@ -40,6 +47,7 @@ async function main() {
 
   console.log(`\nQuietpath is running at ${server.url}/`);
   console.log(seeded ? 'Demo data was created.' : 'Using the existing data in .data/.');
+  if (localS3) console.log(`Stored files: a local S3-compatible server at ${localS3.endpoint}, bucket "${localS3.bucket}" (objects in .data/s3).`);
   console.log(`Outbox (every e-mail sent, with attachments): ${server.url}/outbox`);
   if (!process.env.SMTP_URL) console.log('  E-mail is delivered to a built-in local mailbox; nothing leaves this machine.');
   if (!process.env.STRIPE_SECRET_KEY) console.log('  Payments use a built-in test payment service; no money moves.');
@@ -52,6 +60,7 @@ async function main() {
     if (stopping) return;
     stopping = true;
     await server.close().catch(() => undefined);
+    await localS3?.stop();
     cluster.stop();
     process.exit(0);
   };

@@ -23,6 +23,7 @@ import { captureRoutes } from './routes/captures';
 import { measurementRoutes } from './routes/measurements';
 import { calibrationRoutes } from './routes/calibrations';
 import { recordingRoutes, signalRoutes } from './routes/recordings';
+import type { FileStore } from './storage/file-store';
 import type { AnalysisQueue } from './services/analysis-queue';
 import { CachedSessionStore } from './services/cached-session-store';
 import { SignedInCache } from './services/signed-in-cache';
@@ -37,12 +38,14 @@ export interface AppDeps {
   queue: AnalysisQueue;
   /** Mail and payment clients (real, or the local stand-ins). */
   billing: BillingRuntime;
+  /** Where captures and recording chunks are stored. */
+  store: FileStore;
 }
 
 export const SESSION_COOKIE = 'qp.sid';
 const SESSION_HOURS = 12;
 
-export function createApp({ config, db, pool, queue, billing }: AppDeps): Express {
+export function createApp({ config, db, pool, queue, billing, store }: AppDeps): Express {
   const app = express();
   app.disable('x-powered-by');
   app.set('etag', false);
@@ -89,10 +92,10 @@ export function createApp({ config, db, pool, queue, billing }: AppDeps): Expres
   api.use(repairLogRoutes(db));
   api.use(specSheetRoutes(db));
   api.use(userRoutes(db, signedIn));
-  api.use(captureRoutes(db, config, queue));
+  api.use(captureRoutes(db, config, queue, store));
   api.use(measurementRoutes(db));
   api.use(calibrationRoutes(db));
-  api.use(recordingRoutes(db, config, queue));
+  api.use(recordingRoutes(db, config, queue, store));
   api.use(signalRoutes());
   api.use(billingRoutes(db, billing, signedIn));
   api.use(apiNotFound);

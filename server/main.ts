@@ -9,6 +9,7 @@ import { startBilling } from './billing-runtime';
 import { startAnalysisQueue } from './services/analysis-queue';
 import { sweepOrphanedUploads } from './services/capture-storage';
 import { startAnalysisWorker } from './worker/analysis-worker';
+import { openFileStore, storageSettings } from './storage/storage-config';
 
 export interface RunningServer {
   url: string;
@@ -34,14 +35,15 @@ export async function startServer(env: Record<string, string | undefined> = proc
   const config: Config = loadConfig(env);
   const { pool, db } = createDb(config.DATABASE_URL);
   await runMigrations(db);
-  await sweepOrphanedUploads(config.FILES_DIR);
+  const store = await openFileStore(storageSettings(config));
+  await sweepOrphanedUploads(store.scratchDir);
   const queue = await startAnalysisQueue(config.DATABASE_URL, {
     expireSeconds: config.ANALYSIS_EXPIRE_SECONDS,
     maintenanceSeconds: config.QUEUE_MAINTENANCE_SECONDS,
   });
-  const worker = config.WORKER === 'on' ? await startAnalysisWorker({ queue, db, filesDir: config.FILES_DIR }) : null;
+  const worker = config.WORKER === 'on' ? await startAnalysisWorker({ queue, db, store }) : null;
   const billing = await startBilling(config, db);
-  const app = createApp({ config, db, pool, queue, billing });
+  const app = createApp({ config, db, pool, queue, billing, store });
   const server: Server = await new Promise((resolve) => {
     const s = app.listen(config.PORT, config.HOST, () => resolve(s));
   });
