@@ -26,7 +26,7 @@ import { recordingRoutes, signalRoutes } from './routes/recordings';
 import type { FileStore } from './storage/file-store';
 import type { AnalysisQueue } from './services/analysis-queue';
 import { CachedSessionStore } from './services/cached-session-store';
-import { SignedInCache } from './services/signed-in-cache';
+import type { SignedInCache } from './services/signed-in-cache';
 import type { BillingRuntime } from './billing-runtime';
 import { billingRoutes, paymentWebhookRoutes } from './routes/payments';
 
@@ -40,12 +40,14 @@ export interface AppDeps {
   billing: BillingRuntime;
   /** Where captures and recording chunks are stored. */
   store: FileStore;
+  /** Who is signed in, remembered between requests (shared with other nodes by main.ts). */
+  signedIn: SignedInCache;
 }
 
 export const SESSION_COOKIE = 'qp.sid';
 const SESSION_HOURS = 12;
 
-export function createApp({ config, db, pool, queue, billing, store }: AppDeps): Express {
+export function createApp({ config, db, pool, queue, billing, store, signedIn }: AppDeps): Express {
   const app = express();
   app.disable('x-powered-by');
   app.set('etag', false);
@@ -54,7 +56,6 @@ export function createApp({ config, db, pool, queue, billing, store }: AppDeps):
 
   app.use(cookieParser());
   const PgStore = connectPgSimple(session);
-  const signedIn = new SignedInCache(config.SIGNED_IN_CACHE_MS);
   app.use(
     session({
       name: SESSION_COOKIE,

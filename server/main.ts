@@ -10,6 +10,8 @@ import { startAnalysisQueue } from './services/analysis-queue';
 import { sweepOrphanedUploads } from './services/capture-storage';
 import { startAnalysisWorker } from './worker/analysis-worker';
 import { openFileStore, storageSettings } from './storage/storage-config';
+import { SignedInCache } from './services/signed-in-cache';
+import { shareSignedInChanges } from './services/signed-in-sharing';
 
 export interface RunningServer {
   url: string;
@@ -43,7 +45,9 @@ export async function startServer(env: Record<string, string | undefined> = proc
   });
   const worker = config.WORKER === 'on' ? await startAnalysisWorker({ queue, db, store }) : null;
   const billing = await startBilling(config, db);
-  const app = createApp({ config, db, pool, queue, billing, store });
+  const signedIn = new SignedInCache(config.SIGNED_IN_CACHE_MS);
+  const sharing = config.SIGNED_IN_CACHE_MS > 0 ? await shareSignedInChanges(config.DATABASE_URL, pool, signedIn) : null;
+  const app = createApp({ config, db, pool, queue, billing, store, signedIn });
   const server: Server = await new Promise((resolve) => {
     const s = app.listen(config.PORT, config.HOST, () => resolve(s));
   });
@@ -60,6 +64,7 @@ export async function startServer(env: Record<string, string | undefined> = proc
       await worker?.stop();
       await queue.stop();
       await billing.close();
+      await sharing?.close();
       await pool.end();
     },
   };
