@@ -101,7 +101,7 @@ describe.each(['local', 's3'] as const)('the %s driver', (kind) => {
     const sha256 = createHash('sha256').update(bytes).digest('hex');
     const file: StagedFile = { originalName: 'rollback.wav', tempPath: scratchFile(store(), bytes), size: bytes.length, sha256, head: bytes.subarray(0, 65536) };
     const checked = await checkUpload(db, job.shopId, job.jobId, [file], [
-      { testPointId: null, phase: 'before', stimulus: 'tone', drivenChannel: null, calibrationId: null, loadOhms: null, notes: '' },
+      { testPointId: null, phase: 'before', stimulus: 'tone', drivenChannel: null, selectedInput: null, drivenInput: null, calibrationId: null, loadOhms: null, notes: '' },
     ]);
     await expect(storeCaptures(db, brokenQueue, store(), { shopId: job.shopId, jobId: job.jobId, userId: 1 }, checked)).rejects.toThrow('queue unavailable');
     expect(await db.select().from(captures).where(eq(captures.jobId, job.jobId))).toEqual([]);
