@@ -4,6 +4,9 @@
  *  1. 50 concurrent clients on the job list and on a job's detail route (autocannon): requests/s,
  *     p50 and p99 latency in three rounds; target: median p99 < 100 ms.
  *  2. 10 concurrent 50 MB WAV uploads, then the time until all are analysed.
+ *  3. Several machines (not with BENCH_URL): upload → result for a 60 s 96 kHz/24-bit stereo
+ *     capture on local-folder and on S3 storage, and analysis throughput with 1 and 2 workers on
+ *     S3 (scripts/lib/bench-nodes.ts). `--only-nodes` runs just this part.
  */
 import { execFile, execFileSync } from 'node:child_process';
 import { promisify } from 'node:util';
@@ -15,6 +18,7 @@ import { createDb } from '../server/db/client';
 import { runMigrations } from '../server/db/migrate';
 import { seedDemo } from '../server/db/seed';
 import { startServer } from '../server/main';
+import { benchNodes } from './lib/bench-nodes';
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
 const work = join(root, 'bench-data');
@@ -128,6 +132,7 @@ async function main() {
   mkdirSync(work, { recursive: true });
   let base = process.env.BENCH_URL;
   let stop = async () => {};
+  let clusterUrl: string | null = null;
   if (!base) {
     const dataDir = join(work, 'api-cluster');
     rmSync(dataDir, { recursive: true, force: true });
@@ -136,6 +141,7 @@ async function main() {
     await runMigrations(db);
     await seedDemo(db);
     await pool.end();
+    clusterUrl = cluster.url;
     const server = await startServer({
       DATABASE_URL: cluster.url,
       PORT: '0',
@@ -150,18 +156,29 @@ async function main() {
     };
   }
   try {
-    const auth = await signIn(base, 'tech@quietpath.test');
-    const rows = [await load(`${base}/api/jobs`, auth.cookie), await load(`${base}/api/jobs/1`, auth.cookie)];
-    console.table(rows);
-    for (const r of rows) {
-      console.log(`${r.route}: median p99 ${r.medianP99Ms} ms — ${r.medianP99Ms < P99_TARGET_MS ? 'within' : 'OVER'} the ${P99_TARGET_MS} ms target`);
+    const onlyNodes = process.argv.includes('--only-nodes');
+    if (!onlyNodes) await loadAndUploads(base);
+    if (clusterUrl) {
+      console.log('Several machines: 60 s 96 kHz/24-bit stereo captures, API node and workers in their own processes…');
+      const nodes = await benchNodes({ root, work, clusterUrl });
+      console.table(nodes.uploadToResult);
+      console.table(nodes.throughput);
     }
-    if (process.argv.includes('--skip-uploads')) return;
-    console.log('10 concurrent 50 MB uploads…');
-    console.table([await uploads(base, auth, 1)]);
   } finally {
     await stop();
   }
+}
+
+async function loadAndUploads(base: string) {
+  const auth = await signIn(base, 'tech@quietpath.test');
+  const rows = [await load(`${base}/api/jobs`, auth.cookie), await load(`${base}/api/jobs/1`, auth.cookie)];
+  console.table(rows);
+  for (const r of rows) {
+    console.log(`${r.route}: median p99 ${r.medianP99Ms} ms — ${r.medianP99Ms < P99_TARGET_MS ? 'within' : 'OVER'} the ${P99_TARGET_MS} ms target`);
+  }
+  if (process.argv.includes('--skip-uploads')) return;
+  console.log('10 concurrent 50 MB uploads…');
+  console.table([await uploads(base, auth, 1)]);
 }
 
 main().catch((err) => {

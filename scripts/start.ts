@@ -13,8 +13,7 @@ import { seedDemo, DEMO_USERS, DEMO_PASSWORD } from '../server/db/seed';
 import { benchDemo } from '../server/db/seed-bench';
 import { seedCaptures } from '../server/db/seed-captures';
 import { startServer } from '../server/main';
-import { loadStorageSettings, openFileStore } from '../server/storage/storage-config';
-import { startLocalS3 } from './lib/local-s3';
+import { projectStorage } from './lib/project-storage';
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
 const dataDir = join(root, '.data');
@@ -25,13 +24,8 @@ async function main() {
   const cluster = await startCluster({ dataDir: join(dataDir, 'postgres'), port: PG_PORT, database: 'quietpath' });
   const { db, pool } = createDb(cluster.url);
   await runMigrations(db);
-  const filesDir = process.env.FILES_DIR ?? join(dataDir, 'files');
-  // STORAGE=s3 without an endpoint of its own: a local S3-compatible server keeps the objects in .data/s3.
-  const localS3 =
-    process.env.STORAGE === 's3' && !process.env.S3_ENDPOINT ? await startLocalS3({ dir: join(dataDir, 's3'), port: Number(process.env.S3_PORT ?? 0) }) : null;
-  const env = { ...process.env, ...localS3?.env, FILES_DIR: filesDir };
-  const storage = loadStorageSettings(env);
-  const seeded = await seedDemo(db, [benchDemo, seedCaptures(await openFileStore(storage))]);
+  const { env, store, localS3, stop: stopStorage } = await projectStorage(dataDir);
+  const seeded = await seedDemo(db, [benchDemo, seedCaptures(store)]);
   await pool.end();
   const webDist = ensureWebBuild(root);
 
@@ -41,7 +35,6 @@ async function main() {
     HOST: process.env.HOST ?? '127.0.0.1',
     PORT: process.env.PORT ?? '3000',
     SESSION_SECRET: process.env.SESSION_SECRET ?? persistentSecret(join(dataDir, 'session-secret')),
-    FILES_DIR: filesDir,
     WEB_DIST: webDist,
   });
 
@@ -60,7 +53,7 @@ async function main() {
     if (stopping) return;
     stopping = true;
     await server.close().catch(() => undefined);
-    await localS3?.stop();
+    await stopStorage();
     cluster.stop();
     process.exit(0);
   };

@@ -22,7 +22,7 @@ describe('backup and restore round trip (pg_dump / pg_restore)', () => {
     const [shop] = await db.select().from(shops).limit(1);
     const [kept] = await db.insert(customers).values({ shopId: shop!.id, name: 'Backed-up Customer' }).returning();
 
-    backup({ databaseUrl: inject('databaseUrl'), filesDir }, join(dir, 'snapshot'));
+    await backup({ databaseUrl: inject('databaseUrl'), filesDir }, join(dir, 'snapshot'));
     expect(existsSync(join(dir, 'snapshot', 'database.dump'))).toBe(true);
 
     await db.delete(customers).where(eq(customers.id, kept!.id));
