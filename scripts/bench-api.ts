@@ -6,7 +6,8 @@
  *  2. 10 concurrent 50 MB WAV uploads, then the time until all are analysed.
  *  3. Several machines (not with BENCH_URL): upload → result for a 60 s 96 kHz/24-bit stereo
  *     capture on local-folder and on S3 storage, and analysis throughput with 1 and 2 workers on
- *     S3 (scripts/lib/bench-nodes.ts). `--only-nodes` runs just this part.
+ *     S3 (scripts/lib/bench-nodes.ts). `--only-nodes` runs just this part; `--big` adds a 700 MB
+ *     capture through S3 storage with the peak memory of the API node and the worker.
  */
 import { execFile, execFileSync } from 'node:child_process';
 import { promisify } from 'node:util';
@@ -160,9 +161,10 @@ async function main() {
     if (!onlyNodes) await loadAndUploads(base);
     if (clusterUrl) {
       console.log('Several machines: 60 s 96 kHz/24-bit stereo captures, API node and workers in their own processes…');
-      const nodes = await benchNodes({ root, work, clusterUrl });
+      const nodes = await benchNodes({ root, work, clusterUrl, big: process.argv.includes('--big') });
       console.table(nodes.uploadToResult);
       console.table(nodes.throughput);
+      if (nodes.bigCapture.length) console.table(nodes.bigCapture);
     }
   } finally {
     await stop();

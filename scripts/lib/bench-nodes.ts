@@ -4,10 +4,12 @@
  * server (s3rver, in its own process).
  *  - upload → result: one 60 s 96 kHz/24-bit stereo capture, from the start of its upload until
  *    its figures are stored, on each driver (median of three);
- *  - analysis throughput on S3 storage with 1 and with 2 workers: captures analysed per minute.
+ *  - analysis throughput on S3 storage with 1 and with 2 workers: captures analysed per minute;
+ *  - with `big`: a 700 MB capture through S3 storage, and the peak memory of the API node and
+ *    the worker that measured it (neither may hold the capture in memory).
  */
 import { spawn, type ChildProcess, execFileSync } from 'node:child_process';
-import { existsSync, mkdirSync, openAsBlob, readFileSync, rmSync } from 'node:fs';
+import { existsSync, mkdirSync, openAsBlob, readFileSync, rmSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import pg from 'pg';
 import { startLocalS3 } from './local-s3';
@@ -127,9 +129,17 @@ export interface NodesBenchOptions {
   root: string;
   work: string;
   clusterUrl: string;
+  big?: boolean;
 }
 
-export async function benchNodes({ root, work, clusterUrl }: NodesBenchOptions) {
+/** 96 kHz, 24-bit stereo is 576 000 bytes/s: 1216 s makes a 700 MB capture. */
+function bigWav(work: string): string {
+  const file = join(work, 'capture-700mb-96k-24bit.wav');
+  if (!existsSync(file)) execFileSync('sox', ['-n', '-r', '96000', '-b', '24', '-c', '2', file, 'synth', '1216', 'sine', '997', 'vol', '0.3']);
+  return file;
+}
+
+export async function benchNodes({ root, work, clusterUrl, big = false }: NodesBenchOptions) {
   // Three different tones: every timed upload stores new content rather than finding it stored.
   const files = [991, 997, 1009].map((hz) => {
     const file = join(work, `capture-60s-96k-24bit-${hz}hz.wav`);
@@ -145,11 +155,12 @@ export async function benchNodes({ root, work, clusterUrl }: NodesBenchOptions) 
   try {
     const uploadToResult: Record<string, string | number | null>[] = [];
     let s3Node: { base: string; env: Record<string, string>; auth: Auth } | null = null;
+    let s3Api: ChildProcess | null = null;
     for (const driver of ['local', 's3'] as const) {
       const databaseUrl = await freshDatabase(clusterUrl, `quietpath_bench_${driver}`);
       const storage: Record<string, string> = driver === 's3' ? { ...s3.env, FILES_DIR: join(dir, 'api-scratch') } : { STORAGE: 'local', FILES_DIR: join(dir, 'files') };
       const env = { DATABASE_URL: databaseUrl, SESSION_SECRET: 'bench-secret-bench-secret-bench-secret', ...storage };
-      const api = await spawnNode(root, 'tests/support/child-server.ts', { ...env, HOST: '127.0.0.1', PORT: '0', WORKER: 'off' }, /^\{/);
+      const api = await spawnNode(root, 'tests/support/child-server.ts', { ...env, HOST: '127.0.0.1', PORT: '0', WORKER: 'off', UPLOAD_MAX_MB: '800' }, /^\{/);
       procs.push(api.proc);
       const base = (JSON.parse(api.line) as { url: string }).url;
       const auth = await signIn(base);
@@ -173,7 +184,10 @@ export async function benchNodes({ root, work, clusterUrl }: NodesBenchOptions) 
         'worker peak RSS MB': peakRssMb(worker),
       });
       await stopProc(worker);
-      if (driver === 's3') s3Node = { base, env, auth };
+      if (driver === 's3') {
+        s3Node = { base, env, auth };
+        s3Api = api.proc;
+      }
       else await stopProc(api.proc);
     }
 
@@ -204,7 +218,29 @@ export async function benchNodes({ root, work, clusterUrl }: NodesBenchOptions) 
       });
       await Promise.all(running.map(stopProc));
     }
-    return { uploadToResult, throughput };
+
+    let bigCapture: Record<string, string | number | null>[] = [];
+    if (big) {
+      const file = bigWav(work);
+      const worker = (await spawnNode(root, 'server/worker-main.ts', { ...env, FILES_DIR: join(dir, 'worker-big') }, /Analysis worker running/)).proc;
+      procs.push(worker);
+      const started = performance.now();
+      const id = await upload(base, auth, file, 'big.wav');
+      const uploadedS = (performance.now() - started) / 1000;
+      await allDone(base, auth, [id], 500);
+      bigCapture = [
+        {
+          storage: 's3',
+          'capture MB': Math.round(statSync(file).size / 1e6),
+          'upload s': Number(uploadedS.toFixed(1)),
+          'upload → result s': Number(((performance.now() - started) / 1000).toFixed(1)),
+          'API node peak RSS MB': peakRssMb(s3Api!),
+          'worker peak RSS MB': peakRssMb(worker),
+        },
+      ];
+      await stopProc(worker);
+    }
+    return { uploadToResult, throughput, bigCapture };
   } finally {
     for (const p of procs) p.kill('SIGKILL');
     await s3.stop();
