@@ -12,6 +12,7 @@ import { runMigrations } from '../server/db/migrate';
 import { seedDemo, DEMO_USERS, DEMO_PASSWORD } from '../server/db/seed';
 import { benchDemo } from '../server/db/seed-bench';
 import { seedCaptures } from '../server/db/seed-captures';
+import { seedHistory } from '../server/db/seed-history';
 import { startServer } from '../server/main';
 import { projectStorage } from './lib/project-storage';
 
@@ -25,7 +26,7 @@ async function main() {
   const { db, pool } = createDb(cluster.url);
   await runMigrations(db);
   const { env, store, localS3, stop: stopStorage } = await projectStorage(dataDir);
-  const seeded = await seedDemo(db, [benchDemo, seedCaptures(store)]);
+  const seeded = await seedDemo(db, [benchDemo, seedCaptures(store), seedHistory]);
   await pool.end();
   const webDist = ensureWebBuild(root);
 
