@@ -1,10 +1,11 @@
 import { eq } from 'drizzle-orm';
-import { AnalyzeOptionsError, ENGINE_VERSION, WavFormatError } from '../../analysis/index';
+import { AnalyzeOptionsError, analyzeWavStream, ENGINE_VERSION, WavFormatError } from '../../analysis/index';
 import { analysisResultSchema, type AnalyzeOptions } from '../../shared/analysis-result';
 import { figuresFromResult } from '../../shared/capture-figures';
 import type { Db } from '../db/client';
 import { analyses, calibrationProfiles, captures } from '../db/schema/index';
-import { storagePath } from '../services/capture-storage';
+import { captureKey, readCapture } from '../services/capture-storage';
+import type { FileStore } from '../storage/file-store';
 import { analyzeFileInThreads } from './channel-threads';
 
 // One analysis run: stream the stored WAV through the engine with the capture's settings and
@@ -28,7 +29,7 @@ function describe(err: unknown): string {
   return err instanceof Error ? err.message : String(err);
 }
 
-export async function analyseCapture(db: Db, filesDir: string, captureId: number, attempt: Attempt): Promise<AnalyseOutcome> {
+export async function analyseCapture(db: Db, store: FileStore, captureId: number, attempt: Attempt): Promise<AnalyseOutcome> {
   const [row] = await db
     .select({ capture: captures, calibration: calibrationProfiles })
     .from(captures)
@@ -47,14 +48,14 @@ export async function analyseCapture(db: Db, filesDir: string, captureId: number
   }
 
   try {
-    // A long capture is measured in worker threads, all of them, so this process's event loop
-    // (the HTTP requests, in the server) stays free. A short one is measured here in small reads:
-    // the engine works synchronously on each chunk, and requests wait between chunks.
-    const raw = await analyzeFileInThreads(storagePath(filesDir, capture.sha256), options, {
-      shareCallingThread: false,
-      chunkBytes: 256 * 1024,
-      keepThreads: true,
-    });
+    // A long capture on this node's disk is measured in worker threads, all of them, so this
+    // process's event loop (the HTTP requests, in the server) stays free; a short one is measured
+    // here in small reads (requests wait between chunks). A capture in a bucket is streamed from
+    // the store here: never the whole file in memory.
+    const localPath = store.localPath(captureKey(capture.sha256));
+    const raw = localPath
+      ? await analyzeFileInThreads(localPath, options, { shareCallingThread: false, chunkBytes: 256 * 1024, keepThreads: true })
+      : await analyzeWavStream(await readCapture(store, capture.sha256), options);
     const result = analysisResultSchema.parse(raw);
     const figures = figuresFromResult(result, { loadOhms: capture.loadOhms });
     const headline = {
