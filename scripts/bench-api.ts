@@ -8,19 +8,16 @@
  *     references, one client at a time as a person types (three rounds, median p99), then 10 at once;
  *     target: median p99 < 100 ms.
  *  3. 10 concurrent 50 MB WAV uploads, then the time until all are analysed.
-<<<<<<< HEAD
- *  4. Upload → result, for a 60 s and a 5-minute 96 kHz 24-bit stereo capture, 5 rounds each:
- *     from the first byte of the upload to the result readable from the API, split into upload
- *     (until the capture is committed and the response is back), queue wait (until the capture
- *     is seen running) and analysis (until its result is readable); p50 and max. Compared with
- *     the same file's analysis in-process, the target is total ≤ 1.5 × that + the upload.
- *  `--upload-to-result` runs part 4 only.
-=======
  *  4. Several machines (not with BENCH_URL): upload → result for a 60 s 96 kHz/24-bit stereo
  *     capture on local-folder and on S3 storage, and analysis throughput with 1 and 2 workers on
  *     S3 (scripts/lib/bench-nodes.ts). `--only-nodes` runs just this part; `--big` adds a 700 MB
  *     capture through S3 storage with the peak memory of the API node and the worker.
->>>>>>> main
+ *  5. Upload → result, for a 60 s and a 5-minute 96 kHz 24-bit stereo capture, 5 rounds each:
+ *     from the first byte of the upload to the result readable from the API, split into upload
+ *     (until the capture is committed and the response is back), queue wait (until the capture
+ *     is seen running) and analysis (until its result is readable); p50 and max. Compared with
+ *     the same file's analysis in-process, the target is total ≤ 1.5 × that + the upload.
+ *  `--upload-to-result` runs part 5 only.
  */
 import { execFile, execFileSync } from 'node:child_process';
 import { promisify } from 'node:util';
@@ -34,11 +31,8 @@ import { seedDemo } from '../server/db/seed';
 import { seedSearchLoad } from './lib/seed-search-load';
 import { shops } from '../server/db/schema/index';
 import { startServer } from '../server/main';
-<<<<<<< HEAD
 import { analyzeFileInThreads } from '../server/worker/channel-threads';
-=======
 import { benchNodes } from './lib/bench-nodes';
->>>>>>> main
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
 const work = join(root, 'bench-data');
@@ -313,6 +307,12 @@ async function main() {
     };
   }
   try {
+    if (process.argv.includes('--upload-to-result')) {
+      const auth = await signIn(base, 'tech@quietpath.test');
+      console.log('upload → result, 5 rounds each…');
+      console.table([await uploadToResult(base, auth, 1, 60), await uploadToResult(base, auth, 1, 300)]);
+      return;
+    }
     if (!process.argv.includes('--only-nodes')) await loadSearchAndUploads(base, seedLoad);
     if (clusterUrl && !process.argv.includes('--only-search')) {
       console.log('Several machines: 60 s 96 kHz/24-bit stereo captures, API node and workers in their own processes…');
@@ -329,11 +329,6 @@ async function main() {
 async function loadSearchAndUploads(base: string, seedLoad: (() => Promise<void>) | null) {
   {
     const auth = await signIn(base, 'tech@quietpath.test');
-    if (process.argv.includes('--upload-to-result')) {
-      console.log('upload → result, 5 rounds each…');
-      console.table([await uploadToResult(base, auth, 1, 60), await uploadToResult(base, auth, 1, 300)]);
-      return;
-    }
     if (!process.argv.includes('--only-search')) {
       const rows = [await load(`${base}/api/jobs`, auth.cookie), await load(`${base}/api/jobs/1`, auth.cookie)];
       console.table(rows);
@@ -349,13 +344,8 @@ async function loadSearchAndUploads(base: string, seedLoad: (() => Promise<void>
     if (process.argv.includes('--skip-uploads') || process.argv.includes('--only-search')) return;
     console.log('10 concurrent 50 MB uploads…');
     console.table([await uploads(base, auth, 1)]);
-<<<<<<< HEAD
     console.log('upload → result, 5 rounds each…');
     console.table([await uploadToResult(base, auth, 1, 60), await uploadToResult(base, auth, 1, 300)]);
-  } finally {
-    await stop();
-=======
->>>>>>> main
   }
 }
 
