@@ -8,7 +8,7 @@ import type {
 import type { ClickFigures } from './clicks';
 import { detectMains, HUM_HARMONICS, measureHum, type HumFigures } from './hum';
 import type { LevelFigures } from './levels';
-import { noiseMeanSquare } from './noise';
+import { localNoisePerBin, noiseMeanSquare } from './noise';
 import { measureSeparation } from './separation';
 import { summarizeSpectrum, type AveragedSpectrum } from './spectrum';
 import { detectStimulus, isTone, toneCandidates, type ToneCandidate } from './stimulus';
@@ -208,6 +208,11 @@ function buildChannel(
     : null;
 
   const fundamentalDbfs = tone ? meanSquareToDbfs(tone.fundamentalPower) : null;
+  // The same lobe width as the fundamental's, so tone and noise compare power for power.
+  const toneNoiseDbfs =
+    tone && p && spectrum
+      ? meanSquareToDbfs(localNoisePerBin(p, Math.round(tone.fundamentalHz / spectrum.binHz), LOBE_HALF_WIDTH, tone.excluded.slice(1)) * (2 * LOBE_HALF_WIDTH + 1))
+      : null;
   const thdnDb = tone ? ratioDb(tone.thdnRatio) : null;
   const dbv = (dbfs: number | null): number | null => dbfsToDbv(dbfs, cal);
 
@@ -236,6 +241,7 @@ function buildChannel(
     clippedSamples: lv.clippedSamples,
     fundamentalHz: tone ? tone.fundamentalHz : null,
     fundamentalDbfs,
+    toneNoiseDbfs,
     thdPct: tone ? pct(tone.thdRatio) : null,
     thdDb: tone ? ratioDb(tone.thdRatio) : null,
     thdnPct: tone ? pct(tone.thdnRatio) : null,

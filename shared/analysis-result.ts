@@ -122,6 +122,9 @@ export const channelResultSchema = z.object({
   clippedSamples: z.number().int(),
   fundamentalHz: z.number().nullable(),
   fundamentalDbfs: dbOrNull,
+  /** Noise expected under the fundamental's lobe, from the bins around it: what a tone level
+   *  there can be told apart from. Optional: results made before it was added lack it. */
+  toneNoiseDbfs: dbOrNull.optional(),
   thdPct: z.number().nullable(),
   thdDb: dbOrNull,
   thdnPct: z.number().nullable(),
