@@ -105,3 +105,29 @@ export function compareCrosstalk(options: {
     sentence: lead ? crosstalkSentence(lead) : null,
   };
 }
+
+export type CrosstalkPairVerdict = 'fixed' | 'meets' | 'short' | 'still_short' | 'unknown' | 'not_after';
+export const CROSSTALK_PAIR_VERDICT_LABELS: Record<CrosstalkPairVerdict, string> = {
+  fixed: 'Fixed',
+  meets: 'Meets the limit',
+  short: 'Short of the limit',
+  still_short: 'Still short',
+  unknown: 'Lost in the noise',
+  not_after: 'Not measured after',
+};
+
+/** One word for a pair, reading the after side first, since that is the unit as it leaves. */
+export function pairVerdict(row: Pick<CrosstalkPairRow, 'beforeVerdict' | 'afterVerdict'>): CrosstalkPairVerdict {
+  const { beforeVerdict: b, afterVerdict: a } = row;
+  if (a === null) return 'not_after';
+  if (a === 'meets') return b === 'short' ? 'fixed' : 'meets';
+  if (a === 'short') return b === 'short' ? 'still_short' : 'short';
+  return 'unknown';
+}
+
+/** Where the limit comes from, in plain words. */
+export function limitText(c: Pick<CrosstalkComparison, 'limitDb' | 'limitSource'>): string {
+  return c.limitSource === 'spec_sheet'
+    ? `the published figure of ${c.limitDb} dB`
+    : `${c.limitDb} dB, the long-standing minimum for hi-fi amplifiers (no published figure on file)`;
+}

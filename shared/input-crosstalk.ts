@@ -73,6 +73,14 @@ export interface CrosstalkMatrix {
   missingReference: string[];
 }
 
+/**
+ * True for a capture of another input heard through the selected one: it belongs to the crosstalk
+ * matrix, not to the stage's ordinary before/after figures.
+ */
+export function isCrosstalkCapture(c: Pick<CrosstalkCapture, 'selectedInput' | 'drivenInput'>): boolean {
+  return c.selectedInput !== null && c.drivenInput !== null && inputKey(c.selectedInput) !== inputKey(c.drivenInput);
+}
+
 const isLeak = (c: CrosstalkCapture) => c.selectedInput !== null && c.drivenInput !== null && inputKey(c.selectedInput) !== inputKey(c.drivenInput);
 const isOwn = (c: CrosstalkCapture) => c.selectedInput !== null && c.drivenInput !== null && inputKey(c.selectedInput) === inputKey(c.drivenInput);
 

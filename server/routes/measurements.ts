@@ -5,6 +5,7 @@ import { currentUser, requireRole } from '../middleware/auth';
 import { idParam, parse } from '../middleware/validate';
 import { jobForViewer } from '../services/job-access';
 import { compareForJob, signalPathForJob } from '../services/measurements';
+import { crosstalkForJob } from '../services/input-crosstalk';
 
 /** Read-only views over a job's measured captures: the signal path and before/after. */
 export function measurementRoutes(db: Db): Router {
@@ -18,6 +19,10 @@ export function measurementRoutes(db: Db): Router {
   r.get('/jobs/:id/compare', staff, async (req, res) => {
     const job = await jobForViewer(db, currentUser(req), idParam(req.params.id, 'Job'));
     res.json(await compareForJob(db, job.shopId, job.id, parse(compareQuerySchema, req.query)));
+  });
+  r.get('/jobs/:id/input-crosstalk', staff, async (req, res) => {
+    const job = await jobForViewer(db, currentUser(req), idParam(req.params.id, 'Job'));
+    res.json(await crosstalkForJob(db, job.shopId, job.id));
   });
   return r;
 }

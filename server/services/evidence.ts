@@ -13,7 +13,9 @@ import { compareFigures, overallVerdict, type FigureComparison, type OverallVerd
 import { checkFiguresAgainstSpec, type SpecCheckRow } from '../../shared/spec-check';
 import { biasWithin, railCheck } from '../../shared/repair-log';
 import { SPEC_METRIC_INFO, formatSpecValue } from '../../shared/specs';
+import { isCrosstalkCapture } from '../../shared/input-crosstalk';
 import { notFound } from '../http-error';
+import { crosstalkForJob, type JobCrosstalk } from './input-crosstalk';
 import { jobReference } from './jobs';
 import { sheetForJob } from './measurements';
 
@@ -51,6 +53,8 @@ export interface EvidenceData {
   bias: { channel: string; testPoint: string; targetMv: number; toleranceMv: number; finalMv: number | null; within: boolean | null }[];
   stages: EvidenceStage[];
   spec: { sheet: string | null; rows: (SpecCheckRow & { stage: string })[] };
+  /** Input crosstalk before and after, when any input-tagged crosstalk capture was measured. */
+  crosstalk: JobCrosstalk | null;
   generatedAt: Date;
 }
 
@@ -72,6 +76,8 @@ async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<Ev
       testPointId: captures.testPointId,
       phase: captures.phase,
       stimulus: captures.stimulus,
+      selectedInput: captures.selectedInput,
+      drivenInput: captures.drivenInput,
       loadOhms: captures.loadOhms,
       originalName: captures.originalName,
       notes: captures.notes,
@@ -88,7 +94,7 @@ async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<Ev
   const latest = new Map<string, EvidenceCapture>();
   for (const m of measured) {
     const key = `${m.testPointId}:${m.phase}`;
-    if (latest.has(key)) continue;
+    if (latest.has(key) || isCrosstalkCapture(m)) continue;
     const parsed = analysisResultSchema.safeParse(m.result);
     const result = parsed.success ? parsed.data : null;
     latest.set(key, {
@@ -179,6 +185,7 @@ export async function loadEvidence(db: DbOrTx, shopId: number, jobId: number): P
   const stages = await loadStages(db, shopId, jobId);
   const sheet = await sheetForJob(db, shopId, jobId);
   const published = sheet?.figures.map((f) => ({ metric: f.metric, value: f.value, condition: f.condition, source: f.source })) ?? [];
+  const crosstalk = await crosstalkForJob(db, shopId, jobId);
   const { job, unit, shop } = row;
   const signedOff = ready && ['ready', 'collected'].includes(job.status);
   return {
@@ -193,6 +200,7 @@ export async function loadEvidence(db: DbOrTx, shopId: number, jobId: number): P
     bias: bias.map((b) => ({ channel: b.channel, testPoint: b.testPoint, targetMv: b.targetMv, toleranceMv: b.toleranceMv, finalMv: b.finalMv, within: biasWithin(b.targetMv, b.toleranceMv, b.finalMv) })),
     stages,
     spec: { sheet: sheet ? `${sheet.maker} ${sheet.model}` : null, rows: specRows(stages, published) },
+    crosstalk: crosstalk.rows.length ? crosstalk : null,
     generatedAt: new Date(),
   };
 }

@@ -1,9 +1,10 @@
-import { and, asc, desc, eq } from 'drizzle-orm';
+import { and, asc, desc, eq, isNull, or, sql } from 'drizzle-orm';
 import type { CaptureSummary } from '../../shared/captures';
 import type { CaptureFigures } from '../../shared/capture-figures';
 import { compareFigures, overallVerdict, type Comparison } from '../../shared/compare';
 import { faultCriteria, firstFaultyStage, stageFaults, type SignalPath, type StageCapture } from '../../shared/signal-path';
 import { checkFiguresAgainstSpec } from '../../shared/spec-check';
+import { isCrosstalkCapture } from '../../shared/input-crosstalk';
 import type { SpecSheet } from '../../shared/specs';
 import type { DbOrTx } from '../db/client';
 import { captures, jobs, testPoints } from '../db/schema/index';
@@ -51,7 +52,8 @@ export async function signalPathForJob(db: DbOrTx, shopId: number, jobId: number
     .where(and(eq(testPoints.shopId, shopId), eq(testPoints.jobId, jobId)))
     .orderBy(asc(testPoints.position), asc(testPoints.id));
   // Newest first, so the first one seen per test point and phase is the latest.
-  const measured = (await listCaptures(db, shopId, jobId)).filter((c) => c.state === 'done' && c.figures !== null);
+  // Another input heard through the selected one is the crosstalk matrix's, not the stage's own signal.
+  const measured = (await listCaptures(db, shopId, jobId)).filter((c) => c.state === 'done' && c.figures !== null && !isCrosstalkCapture(c));
   const latest = new Map<string, CaptureSummary>();
   for (const c of measured) {
     const key = `${c.testPointId}:${c.phase}`;
@@ -72,6 +74,9 @@ export async function signalPathForJob(db: DbOrTx, shopId: number, jobId: number
   return { jobId, criteria, rows, firstFault: { before: firstFor('before'), after: firstFor('after') } };
 }
 
+/** Not a crosstalk capture: no inputs said, or the same one selected and driven (SQL of isCrosstalkCapture). */
+const ownSignal = or(isNull(captures.selectedInput), isNull(captures.drivenInput), sql`lower(${captures.selectedInput}) = lower(${captures.drivenInput})`);
+
 /** The newest measured before and after captures at one test point. */
 async function latestPair(db: DbOrTx, shopId: number, jobId: number, testPointId: number): Promise<{ before: number | null; after: number | null }> {
   const [tp] = await db.select({ id: testPoints.id }).from(testPoints).where(and(eq(testPoints.shopId, shopId), eq(testPoints.jobId, jobId), eq(testPoints.id, testPointId)));
@@ -80,7 +85,7 @@ async function latestPair(db: DbOrTx, shopId: number, jobId: number, testPointId
     const [row] = await db
       .select({ id: captures.id })
       .from(captures)
-      .where(and(eq(captures.shopId, shopId), eq(captures.jobId, jobId), eq(captures.testPointId, testPointId), eq(captures.phase, phase), eq(captures.state, 'done')))
+      .where(and(eq(captures.shopId, shopId), eq(captures.jobId, jobId), eq(captures.testPointId, testPointId), eq(captures.phase, phase), eq(captures.state, 'done'), ownSignal))
       .orderBy(desc(captures.createdAt), desc(captures.id))
       .limit(1);
     return row?.id ?? null;
