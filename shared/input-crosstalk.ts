@@ -213,3 +213,13 @@ export function crosstalkVerdict(cell: Pick<CrosstalkCell, 'db' | 'noiseLimited'
   if (cell.db >= limitDb) return 'meets';
   return cell.noiseLimited ? 'unknown' : 'short';
 }
+
+/** The loudest leak anywhere in a matrix: the figure a stage is judged by. A bound counts only when nothing was read. */
+export function worstOfMatrix(m: CrosstalkMatrix): CrosstalkCell | null {
+  let worst: CrosstalkCell | null = null;
+  for (const c of m.cells) {
+    if (c.db === null) continue;
+    if (!worst || (worst.noiseLimited && !c.noiseLimited) || (worst.noiseLimited === c.noiseLimited && c.db < (worst.db as number))) worst = c;
+  }
+  return worst;
+}
