@@ -39,6 +39,14 @@ export interface CrosstalkComparison {
   sentence: string | null;
 }
 
+/** GET /api/jobs/:id/input-crosstalk */
+export interface JobCrosstalk extends CrosstalkComparison {
+  /** The unit's inputs, in selector order. */
+  inputs: string[];
+  /** The spec sheet's published input crosstalk figure, when it has one. */
+  published: { value: number; condition: string; source: string } | null;
+}
+
 /** "Disc" → "disc" inside a sentence; names in capitals ("MM", "CD") stay as they are. */
 function inSentence(name: string): string {
   return name === name.toUpperCase() ? name : name.charAt(0).toLowerCase() + name.slice(1);

@@ -1,5 +1,5 @@
 import { and, eq } from 'drizzle-orm';
-import { compareCrosstalk, type CrosstalkComparison } from '../../shared/input-crosstalk-compare';
+import { compareCrosstalk, type JobCrosstalk } from '../../shared/input-crosstalk-compare';
 import type { DbOrTx } from '../db/client';
 import { jobs, units } from '../db/schema/index';
 import { notFound } from '../http-error';
@@ -7,12 +7,7 @@ import { listCaptures } from './captures';
 import { unitInputs } from './customers';
 import { sheetForJob } from './measurements';
 
-export interface JobCrosstalk extends CrosstalkComparison {
-  /** The unit's inputs, in selector order. */
-  inputs: string[];
-  /** The spec sheet's published input crosstalk figure, when it has one. */
-  published: { value: number; condition: string; source: string } | null;
-}
+export type { JobCrosstalk };
 
 /** The job's input crosstalk before and after the repair, from its measured, input-tagged captures. */
 export async function crosstalkForJob(db: DbOrTx, shopId: number, jobId: number): Promise<JobCrosstalk> {
