@@ -39,8 +39,20 @@ export interface CrosstalkComparison {
   sentence: string | null;
 }
 
+const enteredLevelsSchema = z.record(z.string().trim().min(1).max(40), z.number().finite().min(-200).max(20));
+/**
+ * Levels the technician typed in for driven inputs that have no capture of their own, per phase:
+ * input name → dBFS at the same probe. PUT /api/jobs/:id/input-crosstalk/references.
+ */
+export const crosstalkReferencesSchema = z
+  .object({ before: enteredLevelsSchema.default({}), after: enteredLevelsSchema.default({}) })
+  .strict();
+export type CrosstalkReferences = z.infer<typeof crosstalkReferencesSchema>;
+
 /** GET /api/jobs/:id/input-crosstalk */
 export interface JobCrosstalk extends CrosstalkComparison {
+  /** Reference levels entered for inputs without their own capture. */
+  entered: CrosstalkReferences;
   /** The unit's inputs, in selector order. */
   inputs: string[];
   /** The spec sheet's published input crosstalk figure, when it has one. */

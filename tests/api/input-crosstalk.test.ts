@@ -109,4 +109,31 @@ describe('input crosstalk, from tagged captures to the evidence report', () => {
     // The published figure is answered by the after-repair matrix's worst pair (71 dB, built in).
     expect(text).toMatch(/Input crosstalk at 1 kHz 60 dB 71(\.\d+)? dB Meets \+11\.\d\d dB; Tuner heard/);
   });
+
+  it('a typed-in reference level stands in for a missing reference capture and is kept on the job', async () => {
+    const cust = await desk.post<{ id: number }>('/api/customers', { name: 'Level Typer' });
+    const unit = await desk.post<{ id: number }>('/api/units', { customerId: cust.body.id, kind: 'receiver', maker: 'Harrowgate', model: `Typed ${Date.now()}` });
+    const job = await desk.post<{ id: number }>('/api/jobs', { unitId: unit.body.id, reportedFault: 'Phono heard on aux' });
+    // Phono fed; only the aux step was recorded, 55 dB below a phono level of −12 dBFS.
+    const up = await upload(tech, job.body.id, [{ name: 'aux.wav', bytes: toneFile(-67, -67, 7), meta: { phase: 'before', stimulus: 'tone', selectedInput: 'Aux', drivenInput: 'Phono' } }]);
+    expect(up.status).toBe(201);
+    await waitForAnalysis(tech, job.body.id, [up.body.captures[0]!.id]);
+
+    const without = await tech.get<JobCrosstalk>(`/api/jobs/${job.body.id}/input-crosstalk`);
+    expect(without.body.before.missingReference).toEqual(['Phono']);
+    expect(without.body.rows[0]!.before).toBeNull();
+
+    const bad = await tech.put<{ error: string }>(`/api/jobs/${job.body.id}/input-crosstalk/references`, { before: { Cassette: -12 } });
+    expect(bad.status).toBe(400);
+    expect(bad.body.error).toContain('"Cassette" is not one of this unit\'s inputs');
+    expect((await desk.put(`/api/jobs/${job.body.id}/input-crosstalk/references`, { before: { phono: -12 } })).status).toBe(403);
+
+    const set = await tech.put<JobCrosstalk>(`/api/jobs/${job.body.id}/input-crosstalk/references`, { before: { phono: -12 } });
+    expect(set.status).toBe(200);
+    expect(set.body.entered).toEqual({ before: { Phono: -12 }, after: {} });
+    const again = await tech.get<JobCrosstalk>(`/api/jobs/${job.body.id}/input-crosstalk`);
+    expect(again.body.before.missingReference).toEqual([]);
+    expect(Math.abs(again.body.rows[0]!.before!.db! - 55)).toBeLessThan(0.5);
+    expect(again.body.before.references[0]).toMatchObject({ driven: 'Phono', captureId: null, levelDbfs: -12 });
+  });
 });

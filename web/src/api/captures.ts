@@ -3,7 +3,7 @@ import type { Calibration, CalibrationInput } from '@shared/calibrations';
 import type { CaptureSummary } from '@shared/captures';
 import type { Comparison } from '@shared/compare';
 import type { SignalPath } from '@shared/signal-path';
-import type { JobCrosstalk } from '@shared/input-crosstalk-compare';
+import type { CrosstalkReferences, JobCrosstalk } from '@shared/input-crosstalk-compare';
 import { http } from './http';
 import { qs } from './query';
 
@@ -15,6 +15,7 @@ export const capturesApi = {
   analyseAgain: (id: number) => http.post<CaptureSummary>(`/api/captures/${id}/analyse`),
   remove: (id: number) => http.del<void>(`/api/captures/${id}`),
   inputCrosstalk: (jobId: number) => http.get<JobCrosstalk>(`/api/jobs/${jobId}/input-crosstalk`),
+  setCrosstalkReferences: (jobId: number, body: CrosstalkReferences) => http.put<JobCrosstalk>(`/api/jobs/${jobId}/input-crosstalk/references`, body),
   signalPath: (jobId: number) => http.get<SignalPath>(`/api/jobs/${jobId}/signal-path`),
   compare: (jobId: number, q: { before?: number; after?: number; testPointId?: number }) =>
     http.get<Comparison>(`/api/jobs/${jobId}/compare${qs(q)}`),
