@@ -25,7 +25,7 @@ export const SPECTROGRAM_LOW_HZ = 20;
 /** Byte b stands for FLOOR + b·STEP dB: 0.6 dB steps from −153 to 0 dBFS. */
 export const SPECTROGRAM_FLOOR_DB = -153;
 export const SPECTROGRAM_STEP_DB = 0.6;
-const STEADY_FRAMES_PER_COLUMN = 3;
+const STEADY_FRAMES_PER_COLUMN = 2;
 const WINDOW = 'blackman-harris-4' as const;
 
 /** About 85 ms per frame: bins near 12 Hz, so hum harmonics part, yet a column stays short. */
@@ -51,24 +51,46 @@ interface OpenColumn {
   closed: boolean;
 }
 
-/** Max |x[k] − 2x[k−1] + x[k−2]| over [from, to); st = [x[k−1], x[k−2]] carried across calls. */
+/**
+ * Max |x[k] − 2x[k−1] + x[k−2]| over every other k in [from, to) (k counted from `phase`), with
+ * st = [x[from−1], x[from−2]]. Every other sample is enough: an impulse of size a gives a, −2a, a
+ * on three consecutive samples, so one of every two in a row sees at least a.
+ */
 function sharpestPoint(x: Float64Array, from: number, to: number, st: Float64Array, out: Float64Array): void {
-  let p1 = st[0]!;
-  let p2 = st[1]!;
   let best = -1;
   let at = from;
-  for (let k = from; k < to; k++) {
-    const v = x[k]!;
-    const d = Math.abs(v - 2 * p1 + p2);
+  const last = to - 1;
+  // The first two points use the carried samples; the rest read straight from the block.
+  if (from <= last) {
+    const d = Math.abs(x[from]! - 2 * st[0]! + st[1]!);
+    if (d > best) {
+      best = d;
+      at = from;
+    }
+  }
+  let k = from + 2;
+  if (from + 1 <= last) {
+    const d = Math.abs(x[from + 1]! - 2 * x[from]! + st[0]!);
+    if (d > best) {
+      best = d;
+      at = from + 1;
+    }
+    k = from + 3;
+  }
+  for (; k <= last; k += 2) {
+    const d = Math.abs(x[k]! - 2 * x[k - 1]! + x[k - 2]!);
     if (d > best) {
       best = d;
       at = k;
     }
-    p2 = p1;
-    p1 = v;
   }
-  st[0] = p1;
-  st[1] = p2;
+  if (to - from >= 2) {
+    st[0] = x[last]!;
+    st[1] = x[last - 1]!;
+  } else if (to - from === 1) {
+    st[1] = st[0]!;
+    st[0] = x[from]!;
+  }
   out[0] = best;
   out[1] = at;
 }

@@ -19,6 +19,7 @@ import { testPointRoutes } from './routes/test-points';
 import { repairLogRoutes } from './routes/repair-log';
 import { specSheetRoutes } from './routes/spec-sheets';
 import { userRoutes } from './routes/users';
+import { captureAudioRoutes } from './routes/capture-audio';
 import { captureRoutes } from './routes/captures';
 import { measurementRoutes } from './routes/measurements';
 import { calibrationRoutes } from './routes/calibrations';
@@ -90,6 +91,7 @@ export function createApp({ config, db, pool, queue, billing }: AppDeps): Expres
   api.use(specSheetRoutes(db));
   api.use(userRoutes(db, signedIn));
   api.use(captureRoutes(db, config, queue));
+  api.use(captureAudioRoutes(db, config));
   api.use(measurementRoutes(db));
   api.use(calibrationRoutes(db));
   api.use(recordingRoutes(db, config, queue));

@@ -1,8 +1,8 @@
 import { createHash, randomBytes } from 'node:crypto';
-import { createWriteStream } from 'node:fs';
+import { createReadStream, createWriteStream } from 'node:fs';
 import { mkdir, open, readdir, rename, stat, unlink } from 'node:fs/promises';
 import { join } from 'node:path';
-import { Transform } from 'node:stream';
+import { Transform, type Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import type { StorageEngine } from 'multer';
 
@@ -80,6 +80,30 @@ export function hashingStorage(dir: string): StorageEngine {
         (err: Error) => callback(err),
       );
     },
+  };
+}
+
+/** A stored capture opened for reading: its length, and any byte range of it as a stream. */
+export interface StoredCaptureBytes {
+  size: number;
+  /** Bytes start … end inclusive (HTTP range numbering), or the whole file. */
+  read(range?: { start: number; end: number }): Readable;
+}
+
+/**
+ * The one way stored capture bytes are read for sending (playback, range requests), so a storage
+ * driver other than the local folder only has to answer here. Null when the file is missing.
+ */
+export async function openStoredCapture(filesDir: string, sha256: string): Promise<StoredCaptureBytes | null> {
+  const path = storagePath(filesDir, sha256);
+  const info = await stat(path).catch((err: NodeJS.ErrnoException) => {
+    if (err.code === 'ENOENT') return null;
+    throw err;
+  });
+  if (!info) return null;
+  return {
+    size: info.size,
+    read: (range) => createReadStream(path, range ? { start: range.start, end: range.end, highWaterMark: 256 * 1024 } : { highWaterMark: 256 * 1024 }),
   };
 }
 

@@ -285,6 +285,16 @@ export async function captureFile(db: DbOrTx, filesDir: string, shopId: number, 
   return { path: storagePath(filesDir, row.sha256), name: row.name };
 }
 
+/** The content hash a capture's bytes are stored under, for this shop's capture only. */
+export async function storedCaptureHash(db: DbOrTx, shopId: number, id: number): Promise<{ sha256: string; name: string }> {
+  const [row] = await db
+    .select({ sha256: captures.sha256, name: captures.originalName })
+    .from(captures)
+    .where(and(eq(captures.shopId, shopId), eq(captures.id, id)));
+  if (!row) throw notFound('Capture');
+  return row;
+}
+
 /** Measures a capture again (after a failure or an engine update); the job commits with the state. */
 export async function requeueCapture(db: Db, queue: AnalysisQueue, shopId: number, id: number): Promise<void> {
   await db.transaction(async (tx) => {
