@@ -25,12 +25,16 @@ export const SPECTROGRAM_LOW_HZ = 20;
 /** Byte b stands for FLOOR + b·STEP dB: 0.6 dB steps from −153 to 0 dBFS. */
 export const SPECTROGRAM_FLOOR_DB = -153;
 export const SPECTROGRAM_STEP_DB = 0.6;
-const STEADY_FRAMES_PER_COLUMN = 2;
+const STEADY_FRAMES_PER_COLUMN = 1;
 const WINDOW = 'blackman-harris-4' as const;
+const RECORD_MARGIN = 1.5;
 
-/** About 85 ms per frame: bins near 12 Hz, so hum harmonics part, yet a column stays short. */
+/**
+ * About 43 ms per frame (bins near 23 Hz): short enough to place an event in time, and the FFTs,
+ * the main cost here, stay small. Rows below a few hundred hertz are narrower than a bin and repeat it.
+ */
 export function spectrogramFrameSize(sampleRate: number): number {
-  return ceilPowerOfTwo(sampleRate / 12);
+  return ceilPowerOfTwo(sampleRate / 24);
 }
 
 export interface SpectrogramOptions {
@@ -52,42 +56,36 @@ interface OpenColumn {
 }
 
 /**
- * Max |x[k] − 2x[k−1] + x[k−2]| over every other k in [from, to) (k counted from `phase`), with
- * st = [x[from−1], x[from−2]]. Every other sample is enough: an impulse of size a gives a, −2a, a
- * on three consecutive samples, so one of every two in a row sees at least a.
+ * Max |x[k] − 2x[k−1] + x[k−2]| over every third k in [from, to), with st = [x[from−1], x[from−2]]
+ * carried across calls. Every third sample is enough: an impulse of size a gives a, −2a, a on three
+ * consecutive samples, so exactly one of them is looked at and reads at least a. Reading each
+ * sample once keeps this scan, which sees every sample of the capture, cheap.
  */
 function sharpestPoint(x: Float64Array, from: number, to: number, st: Float64Array, out: Float64Array): void {
   let best = -1;
   let at = from;
-  const last = to - 1;
-  // The first two points use the carried samples; the rest read straight from the block.
-  if (from <= last) {
-    const d = Math.abs(x[from]! - 2 * st[0]! + st[1]!);
-    if (d > best) {
-      best = d;
-      at = from;
-    }
+  const n = to - from;
+  if (n >= 1) {
+    best = Math.abs(x[from]! - 2 * st[0]! + st[1]!);
   }
-  let k = from + 2;
-  if (from + 1 <= last) {
+  if (n >= 2) {
     const d = Math.abs(x[from + 1]! - 2 * x[from]! + st[0]!);
     if (d > best) {
       best = d;
       at = from + 1;
     }
-    k = from + 3;
   }
-  for (; k <= last; k += 2) {
+  for (let k = from + 4; k < to; k += 3) {
     const d = Math.abs(x[k]! - 2 * x[k - 1]! + x[k - 2]!);
     if (d > best) {
       best = d;
       at = k;
     }
   }
-  if (to - from >= 2) {
-    st[0] = x[last]!;
-    st[1] = x[last - 1]!;
-  } else if (to - from === 1) {
+  if (n >= 2) {
+    st[0] = x[to - 1]!;
+    st[1] = x[to - 2]!;
+  } else if (n === 1) {
     st[1] = st[0]!;
     st[0] = x[from]!;
   }
@@ -208,7 +206,9 @@ export class SpectrogramAccumulator {
         const st = this.diffState[c]!;
         if (at === 0) st[0] = st[1] = x[0]!;
         sharpestPoint(x, i, to, st, found);
-        if (found[0]! > current.peak) {
+        // A new frame only for a clearly sharper point (3.5 dB): a steady tone sets small records
+        // all the time, and each would cost a copy of the frame.
+        if (found[0]! > current.peak * RECORD_MARGIN) {
           current.peak = found[0]!;
           current.centre = startFrame + found[1]!;
         }
@@ -258,9 +258,15 @@ export class SpectrogramAccumulator {
   private fromRing(c: number, from: number, out: Float64Array): void {
     const ring = this.ring[c]!;
     const size = ring.length;
-    for (let j = 0; j < out.length; j++) {
-      const q = from + j;
-      out[j] = q >= 0 && q < this.position && q >= this.position - size ? ring[q % size]! : 0;
+    // Only frames seen and still held in the ring are copied; the rest (before 0, past the end) is zero.
+    const lo = Math.max(from, 0, this.position - size);
+    const hi = Math.min(from + out.length, this.position);
+    out.fill(0);
+    for (let q = lo; q < hi; ) {
+      const r = q % size;
+      const take = Math.min(hi - q, size - r);
+      out.set(ring.subarray(r, r + take), q - from);
+      q += take;
     }
   }
 
