@@ -6,6 +6,7 @@ import { encodeWav } from '../../analysis/wav-encode';
 import type { Spectrogram } from '../../shared/analysis-result';
 import { base64ToBytes, bytesToBase64 } from '../../shared/byte-text';
 import { spectrogramGrid, spectrogramRowHz, spectrogramRowOf } from '../../shared/spectrogram';
+import { levelColour, relativeLuminance } from '../../shared/level-colours';
 
 const FS = 48_000;
 
@@ -125,5 +126,15 @@ describe('spectrogram', () => {
       expect(Array.from(base64ToBytes(text))).toEqual(Array.from(bytes));
     }
     expect(() => base64ToBytes('ab$=')).toThrow(/not base64/);
+  });
+});
+
+describe('level colour scale', () => {
+  it('gets lighter at every step (reads in greyscale print) from dark to light', () => {
+    // WCAG 2 relative luminance, monotonic along the ramp: 101 points.
+    const lum = Array.from({ length: 101 }, (_, i) => relativeLuminance(levelColour(i / 100)));
+    for (let i = 1; i < lum.length; i++) expect(lum[i]!, `step ${i}`).toBeGreaterThan(lum[i - 1]!);
+    // WCAG contrast ratio between the ends, (L1 + 0.05) / (L2 + 0.05): far above the 4.5 text minimum.
+    expect((lum[100]! + 0.05) / (lum[0]! + 0.05)).toBeGreaterThan(10);
   });
 });
