@@ -16,6 +16,7 @@ import { SPEC_METRIC_INFO, formatSpecValue } from '../../shared/specs';
 import { notFound } from '../http-error';
 import { jobReference } from './jobs';
 import { sheetForJob } from './measurements';
+import { faultCriteria, firstFaultyStage } from '../../shared/signal-path';
 
 export interface EvidenceCapture {
   id: number;
@@ -37,6 +38,8 @@ export interface EvidenceStage {
   after: EvidenceCapture | null;
   rows: FigureComparison[];
   overall: OverallVerdict;
+  /** True for the stage where the fault first shows before the repair (signal-path rule). */
+  faultFirstShows: boolean;
 }
 
 export interface EvidenceData {
@@ -60,7 +63,7 @@ function figuresOf(row: { figures: unknown; result: AnalysisResult | null; loadO
   return row.result ? figuresFromResult(row.result, { loadOhms: row.loadOhms }) : null;
 }
 
-async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<EvidenceStage[]> {
+async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<(EvidenceStage & { id: number })[]> {
   const points = await db
     .select()
     .from(testPoints)
@@ -107,7 +110,7 @@ async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<Ev
       const before = latest.get(`${p.id}:before`) ?? null;
       const after = latest.get(`${p.id}:after`) ?? null;
       const rows = compareFigures(before?.figures ?? null, after?.figures ?? null);
-      return { position: p.position, name: p.name, description: p.description, before, after, rows, overall: overallVerdict(rows) };
+      return { id: p.id, position: p.position, name: p.name, description: p.description, before, after, rows, overall: overallVerdict(rows), faultFirstShows: false };
     })
     .filter((s) => s.before || s.after);
 }
@@ -143,6 +146,16 @@ function specRows(stages: EvidenceStage[], published: Parameters<typeof checkFig
 }
 
 
+/** Marks the stage where the fault first shows before the repair, by the same rule as the signal path. */
+function markFaultyStage(stages: (EvidenceStage & { id: number })[], sheet: Awaited<ReturnType<typeof sheetForJob>>): EvidenceStage[] {
+  const separation = sheet?.figures.find((f) => f.metric === 'separation_1k_db')?.value ?? null;
+  const first = firstFaultyStage(
+    stages.map((s) => ({ testPointId: s.id, position: s.position, name: s.name, figures: s.before?.figures ?? null })),
+    faultCriteria(separation),
+  );
+  return stages.map(({ id, ...s }) => ({ ...s, faultFirstShows: first?.testPointId === id }));
+}
+
 export async function loadEvidence(db: DbOrTx, shopId: number, jobId: number): Promise<EvidenceData> {
   const [row] = await db
     .select({ job: jobs, unit: units, customerName: customers.name, shop: shops, technician: users.name })
@@ -176,8 +189,8 @@ export async function loadEvidence(db: DbOrTx, shopId: number, jobId: number): P
     .where(and(eq(jobEvents.shopId, shopId), eq(jobEvents.jobId, jobId), eq(jobEvents.kind, 'status'), eq(jobEvents.toStatus, 'ready')))
     .orderBy(desc(jobEvents.at))
     .limit(1);
-  const stages = await loadStages(db, shopId, jobId);
   const sheet = await sheetForJob(db, shopId, jobId);
+  const stages = markFaultyStage(await loadStages(db, shopId, jobId), sheet);
   const published = sheet?.figures.map((f) => ({ metric: f.metric, value: f.value, condition: f.condition, source: f.source })) ?? [];
   const { job, unit, shop } = row;
   const signedOff = ready && ['ready', 'collected'].includes(job.status);
