@@ -131,10 +131,9 @@ export function useCapturePlayer(source: Ref<PlayerSource | null>, opts: { keepP
     audio.pause();
   }
 
+  /** The shown position follows the element's own once it has moved ('seeked'), not the request. */
   function seek(s: number) {
-    const t = Math.max(0, Math.min(s, durationS.value || s));
-    audio.currentTime = t;
-    currentS.value = t;
+    audio.currentTime = Math.max(0, Math.min(s, durationS.value || s));
   }
 
   onBeforeUnmount(() => {
