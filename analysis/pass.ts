@@ -6,10 +6,11 @@ import type { LevelMeter } from './levels';
 // over the same samples, and this loop is most of the analysis time on a long capture.
 
 /**
- * Over x[from, to): sums = [Σx, Σx², min, max] for the levels, and the click detector's 4th
- * difference (as fourthDifference in clicks.ts: four cascaded first differences) into buf.
+ * Over x[from, to): sums = [Σx, Σx², min, max] for the levels, and the click screen's Σd² and
+ * max|d| of the 4th difference (as fourthDifference in clicks.ts: four cascaded first
+ * differences), with the samples copied into the detector's buffer from `fill` on.
  */
-function levelsAndDetector(
+function levelsAndScreen(
   x: Float64Array,
   from: number,
   to: number,
@@ -42,7 +43,7 @@ function levelsAndDetector(
     e1p = e1;
     e2p = e2;
     e3p = e3;
-    buf[fill++] = d;
+    buf[fill++] = v;
     dsq += d * d;
     const a = Math.abs(d);
     if (a > dmax) dmax = a;
@@ -79,7 +80,7 @@ export class ChannelPass {
         levels.scanRun(x, i, to);
         clicks.scanRun(x, i, to);
       } else {
-        const fill = levelsAndDetector(x, i, to, clicks.buffer, clicks.fill, clicks.state, this.sums);
+        const fill = levelsAndScreen(x, i, to, clicks.buffer, clicks.fill, clicks.state, this.sums);
         levels.addRun(x, i, to, this.sums);
         clicks.endRun(to - i, fill);
       }

@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { stimulusSchema } from './analysis-result';
 import { captureFiguresSchema } from './capture-figures';
+import { captureInputSchema } from './inputs';
 
 // Captures: one WAV file recorded at a test point of a job, before or after the repair.
 
@@ -37,6 +38,10 @@ export const captureFileMetaSchema = z
     stimulus: stimulusSchema,
     /** 0-based channel carrying the test tone; null = let the engine detect it. */
     drivenChannel: z.number().int().min(0).max(7).nullable().default(null),
+    /** Input the selector was set to, one of the unit's inputs (any case); null = not said. */
+    selectedInput: captureInputSchema,
+    /** Input the test tone was fed into: the selected one for an ordinary measurement, another for input crosstalk. */
+    drivenInput: captureInputSchema,
     calibrationId: z.number().int().positive().nullable().default(null),
     /** Dummy-load resistance for output power, ohms. */
     loadOhms: z.number().positive().max(100_000).nullable().default(null),
@@ -61,6 +66,8 @@ export const captureSummarySchema = z.object({
   phase: capturePhaseSchema,
   stimulus: stimulusSchema,
   drivenChannel: z.number().int().nullable(),
+  selectedInput: z.string().nullable(),
+  drivenInput: z.string().nullable(),
   calibrationId: z.number().int().nullable(),
   calibrationName: z.string().nullable(),
   loadOhms: z.number().nullable(),

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { inputListSchema } from './inputs';
 
 export const UNIT_KINDS = [
   'integrated_amplifier',
@@ -43,10 +44,13 @@ export const unitInputSchema = z.object({
   model: z.string().trim().min(1, 'Model is required').max(120),
   serial: optionalText(120),
   notes: optionalText(2000),
+  /** Source inputs on the selector; left out, the unit gets the usual ones for its kind. */
+  inputs: inputListSchema.optional(),
 });
 export type UnitInput = z.infer<typeof unitInputSchema>;
 
 export const unitSchema = unitInputSchema.extend({
+  inputs: z.array(z.string()),
   id: z.number().int(),
   customerName: z.string(),
   createdAt: z.string(),

@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { stimulusSchema } from './analysis-result';
 import { capturePhaseSchema, captureSummarySchema } from './captures';
+import { captureInputSchema } from './inputs';
 
 // Recordings made on the live bench (soak tests). The browser streams raw PCM to the server in
 // numbered chunks while it records, so a closed tab loses at most the chunk in flight; finishing
@@ -31,6 +32,8 @@ export const recordingOpenSchema = z
     stimulus: stimulusSchema,
     /** 0-based channel carrying the test tone; null = let the engine find it. */
     drivenChannel: z.number().int().min(0).max(7).nullable().default(null),
+    selectedInput: captureInputSchema,
+    drivenInput: captureInputSchema,
     calibrationId: z.number().int().positive().nullable().default(null),
     loadOhms: z.number().positive().max(100_000).nullable().default(null),
     sampleRate: z.number().int().min(8000, 'At least 8000 Hz').max(384_000, 'At most 384 kHz'),
@@ -67,6 +70,8 @@ export const recordingSummarySchema = z.object({
   phase: capturePhaseSchema,
   stimulus: stimulusSchema,
   drivenChannel: z.number().int().nullable(),
+  selectedInput: z.string().nullable(),
+  drivenInput: z.string().nullable(),
   calibrationId: z.number().int().nullable(),
   loadOhms: z.number().nullable(),
   sampleRate: z.number().int(),

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { inputListSchema } from './inputs';
 
 /**
  * Published figures a spec sheet may hold, with the rule for judging a measurement against each.
@@ -124,6 +125,8 @@ export const specSheetInputSchema = z
     maker: text(120).min(1, 'Maker is required'),
     model: text(120).min(1, 'Model is required'),
     notes: text(2000).default(''),
+    /** Source inputs the model has, as published. */
+    inputs: inputListSchema.default([]),
     figures: z.array(specFigureInputSchema).max(SPEC_METRICS.length),
   })
   .strict()
@@ -152,12 +155,13 @@ export const specSheetSchema = z.object({
   maker: z.string(),
   model: z.string(),
   notes: z.string(),
+  inputs: z.array(z.string()),
   figures: z.array(specFigureSchema),
   createdAt: z.string(),
 });
 export type SpecSheet = z.infer<typeof specSheetSchema>;
 
-export const specSheetSummarySchema = specSheetSchema.omit({ figures: true, notes: true }).extend({ figureCount: z.number().int() });
+export const specSheetSummarySchema = specSheetSchema.omit({ figures: true, notes: true, inputs: true }).extend({ figureCount: z.number().int() });
 export type SpecSheetSummary = z.infer<typeof specSheetSummarySchema>;
 
 export const specSheetListQuerySchema = z.object({ q: z.string().trim().max(200).default('') }).strict();

@@ -67,7 +67,7 @@ export async function seedDemo(db: Db, extensions: DemoExtension[] = []): Promis
     const unitRows = await tx
       .insert(units)
       .values([
-        { shopId, customerId: customerIds[0]!, kind: 'integrated_amplifier', maker: 'Vellmark', model: 'Solace 70', serial: 'VS70-004512', notes: 'Four line inputs, one phono (MM).' },
+        { shopId, customerId: customerIds[0]!, kind: 'integrated_amplifier', maker: 'Vellmark', model: 'Solace 70', serial: 'VS70-004512', notes: 'Four line inputs, one phono (MM).', inputs: ['Phono', 'Disc', 'Tuner', 'Aux', 'Recorder'] },
         { shopId, customerId: customerIds[1]!, kind: 'receiver', maker: 'Orrindale', model: 'Tidewater R4', serial: 'TR4-11873', notes: '' },
         { shopId, customerId: customerIds[2]!, kind: 'phono_stage', maker: 'Tamsett Sound Works', model: 'Groovewell PS', serial: 'GW-0291', notes: 'External supply.' },
       ])

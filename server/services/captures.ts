@@ -8,7 +8,9 @@ import type { CaptureFileMeta, CaptureSummary } from '../../shared/captures';
 import type { CaptureFigures } from '../../shared/capture-figures';
 import { powerFromDbv } from '../../shared/power';
 import type { Db, DbOrTx } from '../db/client';
-import { analyses, calibrationProfiles, captures, testPoints, users } from '../db/schema/index';
+import { analyses, calibrationProfiles, captures, jobs, testPoints, units, users } from '../db/schema/index';
+import { matchInput } from '../../shared/inputs';
+import { unitInputs } from './customers';
 import { HttpError, badRequest, notFound } from '../http-error';
 import type { AnalysisQueue } from './analysis-queue';
 import { removeQuietly, storagePath, storeContentAddressed } from './capture-storage';
@@ -102,6 +104,7 @@ export async function checkUpload(db: DbOrTx, shopId: number, jobId: number, fil
         .from(calibrationProfiles)
         .where(and(eq(calibrationProfiles.shopId, shopId), inArray(calibrationProfiles.id, calIds)))
     : [];
+  const inputs = await jobUnitInputs(db, shopId, jobId);
   const tpOk = new Set(foundTp.map((r) => r.id));
   const calOk = new Set(foundCal.map((r) => r.id));
   for (const c of checked) {
@@ -111,8 +114,38 @@ export async function checkUpload(db: DbOrTx, shopId: number, jobId: number, fil
     if (c.meta.calibrationId !== null && !calOk.has(c.meta.calibrationId)) {
       throw badRequest(`"${c.file.originalName}": calibration profile ${c.meta.calibrationId} does not exist in this shop`);
     }
+    c.meta = { ...c.meta, ...resolveCaptureInputs(inputs, c.meta, `"${c.file.originalName}": `) };
   }
   return checked;
+}
+
+/** The source inputs of the job's unit, for tagging captures. */
+export async function jobUnitInputs(db: DbOrTx, shopId: number, jobId: number): Promise<string[]> {
+  const [row] = await db
+    .select({ kind: units.kind, inputs: units.inputs })
+    .from(jobs)
+    .innerJoin(units, eq(units.id, jobs.unitId))
+    .where(and(eq(jobs.shopId, shopId), eq(jobs.id, jobId)));
+  if (!row) throw notFound('Job');
+  return unitInputs(row.kind, row.inputs);
+}
+
+/**
+ * Selected and driven inputs in the unit's own spelling; a name the unit does not have is refused
+ * with the list it does have, so a typo is not stored as a new input.
+ */
+export function resolveCaptureInputs(
+  inputs: string[],
+  tags: { selectedInput: string | null; drivenInput: string | null },
+  where = '',
+): { selectedInput: string | null; drivenInput: string | null } {
+  const resolve = (name: string | null, role: string) => {
+    if (name === null) return null;
+    const found = matchInput(inputs, name);
+    if (!found) throw badRequest(`${where}the ${role} input "${name}" is not one of this unit's inputs (${inputs.join(', ')})`);
+    return found;
+  };
+  return { selectedInput: resolve(tags.selectedInput, 'selected'), drivenInput: resolve(tags.drivenInput, 'driven') };
 }
 
 /**
@@ -145,6 +178,8 @@ export async function storeCaptures(
             phase: meta.phase,
             stimulus: meta.stimulus,
             drivenChannel: meta.drivenChannel,
+            selectedInput: meta.selectedInput,
+            drivenInput: meta.drivenInput,
             calibrationId: meta.calibrationId,
             loadOhms: meta.loadOhms,
             notes: meta.notes,
@@ -205,6 +240,8 @@ const summaryColumns = {
   phase: captures.phase,
   stimulus: captures.stimulus,
   drivenChannel: captures.drivenChannel,
+  selectedInput: captures.selectedInput,
+  drivenInput: captures.drivenInput,
   calibrationId: captures.calibrationId,
   calibrationName: calibrationProfiles.name,
   loadOhms: captures.loadOhms,

@@ -1,7 +1,8 @@
 import { and, asc, eq, ilike, or } from 'drizzle-orm';
 import type { DbOrTx } from '../db/client';
 import { customers, units } from '../db/schema/index';
-import type { Customer, CustomerInput, Unit, UnitInput } from '../../shared/customers';
+import type { Customer, CustomerInput, Unit, UnitInput, UnitKind } from '../../shared/customers';
+import { defaultInputs } from '../../shared/inputs';
 import { notFound } from '../http-error';
 
 const iso = (d: Date) => d.toISOString();
@@ -59,8 +60,16 @@ const unitColumns = {
   model: units.model,
   serial: units.serial,
   notes: units.notes,
+  inputs: units.inputs,
   createdAt: units.createdAt,
 };
+
+/** A unit stored before inputs were kept (an empty list) has the usual ones for its kind. */
+export function unitInputs(kind: UnitKind, stored: string[]): string[] {
+  return stored.length ? stored : defaultInputs(kind);
+}
+
+const toUnit = (r: Omit<Unit, 'createdAt'> & { createdAt: Date }): Unit => ({ ...r, inputs: unitInputs(r.kind, r.inputs), createdAt: iso(r.createdAt) });
 
 export async function listUnits(
   db: DbOrTx,
@@ -80,7 +89,7 @@ export async function listUnits(
       ),
     )
     .orderBy(asc(units.maker), asc(units.model));
-  return rows.map((r) => ({ ...r, createdAt: iso(r.createdAt) }));
+  return rows.map(toUnit);
 }
 
 export async function getUnit(db: DbOrTx, shopId: number, id: number): Promise<Unit> {
@@ -90,12 +99,15 @@ export async function getUnit(db: DbOrTx, shopId: number, id: number): Promise<U
     .innerJoin(customers, eq(customers.id, units.customerId))
     .where(and(eq(units.shopId, shopId), eq(units.id, id)));
   if (!row) throw notFound('Unit');
-  return { ...row, createdAt: iso(row.createdAt) };
+  return toUnit(row);
 }
 
 export async function createUnit(db: DbOrTx, shopId: number, input: UnitInput): Promise<Unit> {
   await getCustomer(db, shopId, input.customerId);
-  const [row] = await db.insert(units).values({ ...input, shopId }).returning({ id: units.id });
+  const [row] = await db
+    .insert(units)
+    .values({ ...input, inputs: input.inputs ?? defaultInputs(input.kind), shopId })
+    .returning({ id: units.id });
   return getUnit(db, shopId, row!.id);
 }
 
@@ -103,7 +115,8 @@ export async function updateUnit(db: DbOrTx, shopId: number, id: number, input: 
   await getCustomer(db, shopId, input.customerId);
   const [row] = await db
     .update(units)
-    .set(input)
+    // Inputs left out of an edit stay as they were.
+    .set({ ...input, inputs: input.inputs })
     .where(and(eq(units.shopId, shopId), eq(units.id, id)))
     .returning({ id: units.id });
   if (!row) throw notFound('Unit');

@@ -18,7 +18,7 @@ import { calibrationProfiles, jobs, recordings, testPoints, units, users } from 
 import { HttpError, badRequest, conflict, notFound } from '../http-error';
 import type { AnalysisQueue } from './analysis-queue';
 import { HEAD_BYTES, removeQuietly, tempDir } from './capture-storage';
-import { checkUpload, removeStoredIfUnreferenced, storeCaptures, type StagedFile } from './captures';
+import { checkUpload, jobUnitInputs, removeStoredIfUnreferenced, resolveCaptureInputs, storeCaptures, type StagedFile } from './captures';
 import { jobInShop } from './job-access';
 
 // Live-bench recordings: chunks arrive numbered and are kept one file each under
@@ -41,6 +41,8 @@ const summaryColumns = {
   phase: recordings.phase,
   stimulus: recordings.stimulus,
   drivenChannel: recordings.drivenChannel,
+  selectedInput: recordings.selectedInput,
+  drivenInput: recordings.drivenInput,
   calibrationId: recordings.calibrationId,
   loadOhms: recordings.loadOhms,
   sampleRate: recordings.sampleRate,
@@ -109,9 +111,10 @@ export async function openRecording(db: Db, user: SessionUser, input: RecordingO
       .where(and(eq(calibrationProfiles.shopId, shopId), eq(calibrationProfiles.id, input.calibrationId)));
     if (!cal) throw badRequest(`Calibration profile ${input.calibrationId} does not exist in this shop`);
   }
+  const tags = resolveCaptureInputs(await jobUnitInputs(db, shopId, input.jobId), input);
   const [row] = await db
     .insert(recordings)
-    .values({ ...input, shopId, createdBy: user.id })
+    .values({ ...input, ...tags, shopId, createdBy: user.id })
     .returning({ id: recordings.id });
   return getRecording(db, shopId, row!.id);
 }
@@ -277,6 +280,8 @@ export async function finishRecording(db: Db, queue: AnalysisQueue, filesDir: st
           phase: rec.phase,
           stimulus: rec.stimulus,
           drivenChannel: rec.drivenChannel,
+          selectedInput: rec.selectedInput,
+          drivenInput: rec.drivenInput,
           calibrationId: rec.calibrationId,
           loadOhms: rec.loadOhms,
           notes: rec.notes,

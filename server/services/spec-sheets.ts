@@ -30,6 +30,7 @@ async function load(db: DbOrTx, where: SQL | undefined): Promise<SpecSheet | nul
     maker: sheet.maker,
     model: sheet.model,
     notes: sheet.notes,
+    inputs: sheet.inputs,
     figures: figures.map(({ specSheetId: _s, ...f }) => ({ ...f, metric: f.metric as SpecMetric })),
     createdAt: sheet.createdAt.toISOString(),
   };
@@ -82,7 +83,7 @@ async function writeFigures(tx: DbOrTx, shopId: number, sheetId: number, input: 
 export async function createSheet(db: Db, shopId: number, input: SpecSheetInput): Promise<SpecSheet> {
   const id = await db.transaction(async (tx) => {
     await assertUnique(tx, shopId, input);
-    const [row] = await tx.insert(specSheets).values({ shopId, maker: input.maker, model: input.model, notes: input.notes }).returning({ id: specSheets.id });
+    const [row] = await tx.insert(specSheets).values({ shopId, maker: input.maker, model: input.model, notes: input.notes, inputs: input.inputs }).returning({ id: specSheets.id });
     await writeFigures(tx, shopId, row!.id, input);
     return row!.id;
   });
@@ -95,7 +96,7 @@ export async function updateSheet(db: Db, shopId: number, id: number, input: Spe
     await assertUnique(tx, shopId, input, id);
     const [row] = await tx
       .update(specSheets)
-      .set({ maker: input.maker, model: input.model, notes: input.notes })
+      .set({ maker: input.maker, model: input.model, notes: input.notes, inputs: input.inputs })
       .where(and(eq(specSheets.shopId, shopId), eq(specSheets.id, id)))
       .returning({ id: specSheets.id });
     if (!row) throw notFound('Spec sheet');

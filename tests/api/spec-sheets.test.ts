@@ -33,6 +33,7 @@ function sheet(overrides: Partial<SpecSheetInput> = {}): SpecSheetInput {
     maker: 'Lanthorn',
     model: `LX-${randomUUID().slice(0, 8)}`,
     notes: '',
+    inputs: [],
     figures: [
       { metric: 'power_8ohm_w', value: 45, condition: 'both channels driven', source: 'service manual p. 3' },
       { metric: 'thd_pct', value: 0.1, condition: '1 kHz', source: 'service manual p. 3' },

@@ -42,7 +42,7 @@ describe('store and enqueue in one transaction', () => {
     bytes[bytes.length - 3] = (bytes[bytes.length - 3]! + 7) & 0xff; // content nobody stored yet
     const file = stage(bytes, 'rollback.wav');
     const checked = await checkUpload(db, job.shopId, job.jobId, [file], [
-      { testPointId: job.testPointIds[0]!, phase: 'before', stimulus: 'tone', drivenChannel: null, calibrationId: null, loadOhms: null, notes: '' },
+      { testPointId: job.testPointIds[0]!, phase: 'before', stimulus: 'tone', drivenChannel: null, selectedInput: null, drivenInput: null, calibrationId: null, loadOhms: null, notes: '' },
     ]);
     await expect(storeCaptures(db, brokenQueue, filesDir, { shopId: job.shopId, jobId: job.jobId, userId: 1 }, checked)).rejects.toThrow('queue unavailable');
     expect(await db.select().from(captures).where(eq(captures.jobId, job.jobId))).toEqual([]);

@@ -47,6 +47,10 @@ export const captures = pgTable(
     stimulus: stimulusEnum().notNull(),
     /** 0-based channel index carrying the test tone; null = detect. */
     drivenChannel: integer(),
+    /** Input the selector was set to, in the unit's spelling; null = not said. */
+    selectedInput: text(),
+    /** Input the test tone was fed into; differs from selectedInput for an input-crosstalk capture. */
+    drivenInput: text(),
     calibrationId: integer().references(() => calibrationProfiles.id, { onDelete: 'set null' }),
     /** Optional dummy-load resistance for output power, ohms. */
     loadOhms: doublePrecision(),

@@ -1,4 +1,4 @@
-import { pgTable, pgEnum, integer, text, timestamp, doublePrecision, index } from 'drizzle-orm/pg-core';
+import { pgTable, pgEnum, integer, text, timestamp, doublePrecision, index, jsonb } from 'drizzle-orm/pg-core';
 import { UNIT_KINDS } from '../../../shared/customers';
 import { shops } from './shop';
 
@@ -30,6 +30,8 @@ export const units = pgTable(
     model: text().notNull(),
     serial: text().notNull().default(''),
     notes: text().notNull().default(''),
+    /** Source inputs on the selector, in the unit's spelling; empty = the usual ones for its kind. */
+    inputs: jsonb().$type<string[]>().notNull().default([]),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [index('units_shop_idx').on(t.shopId), index('units_customer_idx').on(t.customerId)],
@@ -44,6 +46,8 @@ export const specSheets = pgTable(
     maker: text().notNull(),
     model: text().notNull(),
     notes: text().notNull().default(''),
+    /** Source inputs the model has, as published. */
+    inputs: jsonb().$type<string[]>().notNull().default([]),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [index('spec_sheets_shop_idx').on(t.shopId)],

@@ -24,6 +24,8 @@ export const recordings = pgTable(
     phase: capturePhaseEnum().notNull(),
     stimulus: stimulusEnum().notNull(),
     drivenChannel: integer(),
+    selectedInput: text(),
+    drivenInput: text(),
     calibrationId: integer().references(() => calibrationProfiles.id, { onDelete: 'set null' }),
     loadOhms: doublePrecision(),
     sampleRate: integer().notNull(),
