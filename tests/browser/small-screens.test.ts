@@ -147,3 +147,26 @@ describe('phone, tablet and desktop widths', () => {
     await page.context().close();
   });
 });
+
+describe('before and after by ear', () => {
+  it('switching from the before to the after capture keeps the position', async () => {
+    const page = await open(768, 'tech@quietpath.test');
+    await page.goto(`${server.url}/jobs/${jobId}/compare?before=${beforeId}&after=${afterId}`);
+    const listen = page.locator('section.compare-listen');
+    await listen.getByText('Matched by RMS level').waitFor();
+    const time = listen.locator('[data-test=player-time]');
+    const seconds = async () => Number(await time.getAttribute('data-seconds'));
+    const handle = listen.getByRole('slider', { name: 'Position' });
+    await handle.focus();
+    for (let i = 0; i < 40; i++) await page.keyboard.press('ArrowRight');
+    // 40 steps of 0.01 s: the element has moved there once the shown time settles on 0.40 s.
+    await expect.poll(seconds, { timeout: 10_000 }).toBeCloseTo(0.4, 3);
+    const at = await seconds();
+    const responses: string[] = [];
+    page.on('response', (r) => responses.push(r.url()));
+    await listen.getByRole('button', { name: 'After repair' }).click();
+    await expect.poll(() => responses.some((u) => u.endsWith(`/api/captures/${afterId}/audio`)), { timeout: 10_000 }).toBe(true);
+    await expect.poll(seconds, { timeout: 10_000 }).toBeCloseTo(at, 2);
+    await page.context().close();
+  });
+});
