@@ -28,6 +28,8 @@ export const SPECTROGRAM_STEP_DB = 0.6;
 const STEADY_FRAMES_PER_COLUMN = 1;
 const WINDOW = 'blackman-harris-4' as const;
 const RECORD_MARGIN = 1.5;
+/** A transient frame is analysed when its point is this much sharper (6 dB) than the steady frame's middle. */
+const TRANSIENT_OVER_STEADY = 2;
 
 /**
  * About 43 ms per frame (bins near 23 Hz): short enough to place an event in time, and the FFTs,
@@ -52,6 +54,8 @@ interface OpenColumn {
   peak: number;
   centre: number;
   snapshot: Float64Array[] | null;
+  /** The scan's figure for the point the snapshot is centred on. */
+  snapPeak: number;
   closed: boolean;
 }
 
@@ -111,6 +115,8 @@ export class SpectrogramAccumulator {
   private readonly steady: FrameCollector;
   private readonly steadyColumn: Int32Array;
   private steadyDone = 0;
+  /** Per column, the largest |second difference| in the central quarter of its steady frames; −1 until seen. */
+  private readonly steadySharpness: Float64Array;
   private readonly scratch: Float64Array;
   private readonly power: Float64Array;
   /** The last 2·frameSize samples of each channel, indexed by absolute frame mod 2·frameSize. */
@@ -167,7 +173,12 @@ export class SpectrogramAccumulator {
       }
     }
     this.steadyColumn = Int32Array.from(owners);
-    this.steady = new FrameCollector(n, starts, o.channels, (frame) => this.addFrame(this.steadyColumn[this.steadyDone++]!, frame));
+    this.steadySharpness = new Float64Array(this.columns).fill(-1);
+    this.steady = new FrameCollector(n, starts, o.channels, (frame) => {
+      const column = this.steadyColumn[this.steadyDone++]!;
+      this.noteSteadySharpness(column, frame);
+      this.addFrame(column, frame);
+    });
   }
 
   get highHz(): number {
@@ -225,7 +236,7 @@ export class SpectrogramAccumulator {
     const prev = this.open[this.open.length - 1];
     if (prev) prev.closed = true;
     this.column = c;
-    this.open.push({ column: c, peak: -1, centre: -1, snapshot: null, closed: false });
+    this.open.push({ column: c, peak: -1, centre: -1, snapshot: null, snapPeak: -1, closed: false });
   }
 
   private toRing(c: number, x: Float64Array, from: number, to: number, at: number): void {
@@ -245,10 +256,14 @@ export class SpectrogramAccumulator {
       if (col.centre >= 0 && (atEnd || this.frameStartNear(col.centre) + 2 * half <= this.position)) {
         col.snapshot ??= Array.from({ length: this.channels }, () => new Float64Array(this.frameSize));
         for (let c = 0; c < this.channels; c++) this.fromRing(c, this.frameStartNear(col.centre), col.snapshot[c]!);
+        col.snapPeak = col.peak;
         col.centre = -1;
       }
       if (col.closed && col.centre < 0) {
-        if (col.snapshot) this.addFrame(col.column, col.snapshot);
+        // The transient frame is only worth its FFT when its point is clearly sharper than anything
+        // in the middle of the column's steady frame (where that frame's window is above −3 dB).
+        const steady = this.steadySharpness[col.column]!;
+        if (col.snapshot && !(steady >= 0 && col.snapPeak <= TRANSIENT_OVER_STEADY * steady)) this.addFrame(col.column, col.snapshot);
         this.open.splice(k, 1);
       } else k++;
     }
@@ -268,6 +283,18 @@ export class SpectrogramAccumulator {
       out.set(ring.subarray(r, r + take), q - from);
       q += take;
     }
+  }
+
+  private noteSteadySharpness(column: number, frame: readonly Float64Array[]): void {
+    const n = this.frameSize;
+    let best = this.steadySharpness[column]!;
+    for (const x of frame) {
+      for (let k = (3 * n) / 8, end = (5 * n) / 8; k < end; k++) {
+        const d = Math.abs(x[k]! - 2 * x[k - 1]! + x[k - 2]!);
+        if (d > best) best = d;
+      }
+    }
+    this.steadySharpness[column] = best;
   }
 
   private addFrame(column: number, frame: readonly Float64Array[]): void {
