@@ -12,6 +12,7 @@ import { runMigrations } from '../server/db/migrate';
 import { seedDemo, DEMO_USERS, DEMO_PASSWORD } from '../server/db/seed';
 import { benchDemo } from '../server/db/seed-bench';
 import { seedCaptures } from '../server/db/seed-captures';
+import { seedHistory } from '../server/db/seed-history';
 import { startServer } from '../server/main';
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
@@ -24,7 +25,7 @@ async function main() {
   const { db, pool } = createDb(cluster.url);
   await runMigrations(db);
   const filesDir = process.env.FILES_DIR ?? join(dataDir, 'files');
-  const seeded = await seedDemo(db, [benchDemo, seedCaptures(filesDir)]);
+  const seeded = await seedDemo(db, [benchDemo, seedCaptures(filesDir), seedHistory]);
   await pool.end();
   const webDist = ensureWebBuild(root);
 

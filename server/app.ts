@@ -10,6 +10,10 @@ import type { Config } from './config';
 import type { Db } from './db/client';
 import { createCsrf } from './middleware/csrf';
 import { loadUser } from './middleware/auth';
+import { bearerToken, tokenScopeGate } from './middleware/bearer';
+import { apiTokenRoutes } from './routes/api-tokens';
+import { modelHistoryRoutes } from './routes/model-history';
+import { searchRoutes } from './routes/search';
 import { apiNotFound, errorHandler } from './middleware/errors';
 import { authRoutes } from './routes/auth';
 import { healthRoutes } from './routes/health';
@@ -81,8 +85,11 @@ export function createApp({ config, db, pool, queue, billing }: AppDeps): Expres
   });
   api.use(express.json({ limit: '1mb' }));
   api.use('/health', healthRoutes(db));
-  api.use(csrf.doubleCsrfProtection);
+  api.use(bearerToken(db));
+  // A token request carries no cookie a browser could send by itself, so it needs no CSRF token.
+  api.use((req, res, next) => (req.apiToken ? next() : csrf.doubleCsrfProtection(req, res, next)));
   api.use(loadUser(db, signedIn));
+  api.use(tokenScopeGate);
   api.use('/auth', authRoutes(db, csrf));
   api.use(customerRoutes(db));
   api.use(jobRoutes(db));
@@ -90,6 +97,9 @@ export function createApp({ config, db, pool, queue, billing }: AppDeps): Expres
   api.use(repairLogRoutes(db));
   api.use(specSheetRoutes(db));
   api.use(userRoutes(db, signedIn));
+  api.use(apiTokenRoutes(db));
+  api.use(modelHistoryRoutes(db));
+  api.use(searchRoutes(db));
   api.use(captureRoutes(db, config, queue));
   api.use(captureAudioRoutes(db, config));
   api.use(measurementRoutes(db));

@@ -1,4 +1,5 @@
 import type { SessionUser } from '../shared/auth';
+import type { ApiTokenScope } from '../shared/api-tokens';
 
 declare module 'express-session' {
   interface SessionData {
@@ -11,5 +12,7 @@ declare module 'express-session' {
 declare module 'express-serve-static-core' {
   interface Request {
     user?: SessionUser;
+    /** Set when the request signed in with an API token rather than a session. */
+    apiToken?: { id: number; scope: ApiTokenScope };
   }
 }

@@ -13,6 +13,7 @@ import type { SignedInCache } from '../services/signed-in-cache';
 export function loadUser(db: Db, cache: SignedInCache): RequestHandler {
   return async (req, _res, next) => {
     const id = req.session?.userId;
+    if (req.apiToken) return next();
     if (id) {
       let user = cache.user(id);
       if (user === undefined) {

@@ -8,7 +8,7 @@ import { notFound } from '../http-error';
 const iso = (d: Date) => d.toISOString();
 
 function toCustomer(row: typeof customers.$inferSelect): Customer {
-  const { shopId: _shop, createdAt, ...rest } = row;
+  const { shopId: _shop, createdAt, searchVector: _search, ...rest } = row;
   return { ...rest, createdAt: iso(createdAt) };
 }
 

@@ -142,7 +142,17 @@ type TrailRow = Omit<JobEvent, 'at'> & { at: string };
 function buildDetail(db: DbOrTx, customerOnly: boolean, name: string) {
   return db
     .select({
-      job: jobs,
+      job: {
+        id: jobs.id,
+        status: jobs.status,
+        reportedFault: jobs.reportedFault,
+        accessories: jobs.accessories,
+        conditionNotes: jobs.conditionNotes,
+        faultFound: jobs.faultFound,
+        assignedTechnicianId: jobs.assignedTechnicianId,
+        createdAt: jobs.createdAt,
+        updatedAt: jobs.updatedAt,
+      },
       unit: { id: units.id, kind: units.kind, maker: units.maker, model: units.model, serial: units.serial },
       customer: { id: customers.id, name: customers.name, email: customers.email, phone: customers.phone },
       technicianName: technician.name,

@@ -10,6 +10,7 @@ import { sample, upload } from '../support/captures';
 import { listRoutes, type RouteInfo } from '../../server/route-catalog';
 import { ROLES, type Role } from '../../shared/roles';
 import type { RunningServer } from '../../server/main';
+import { API_TOKEN_SCOPES, type ApiTokenCreated, type ApiTokenScope } from '../../shared/api-tokens';
 
 const DEMO_EMAIL: Record<Role, string> = {
   owner: 'owner@quietpath.test',
@@ -27,6 +28,8 @@ let otherUserId: number;
 /** A capture the other shop really stored, so a route that crossed shops would find its file. */
 let otherCaptureId: number;
 const clients = {} as Record<Role | 'anonymous', ApiClient>;
+/** The technician's API tokens, one per scope, and one that has been revoked. */
+const tokenClients = {} as Record<ApiTokenScope | 'revoked', ApiClient>;
 
 beforeAll(async () => {
   server = await startTestServer();
@@ -44,6 +47,12 @@ beforeAll(async () => {
   ]);
   if (stored.status !== 201) throw new Error(`the other shop's upload answered ${stored.status}`);
   otherCaptureId = stored.body.captures[0]!.id;
+  const makeToken = async (scope: ApiTokenScope) =>
+    (await clients.technician.post<ApiTokenCreated>('/api/account/tokens', { name: `access ${scope}`, scope, expiresInDays: 1 })).body;
+  for (const scope of API_TOKEN_SCOPES) tokenClients[scope] = new ApiClient(server.url, (await makeToken(scope)).token);
+  const revoked = await makeToken('read_results');
+  await clients.technician.del(`/api/account/tokens/${revoked.details.id}`);
+  tokenClients.revoked = new ApiClient(server.url, revoked.token);
 });
 afterAll(() => server.close());
 
@@ -108,6 +117,42 @@ describe('access table', () => {
         const status = (await send(clients[role], r.method, r.path)).status;
         rows.push({ route: `${r.method} ${r.path}`, status, ok: status !== 401 && status !== 403 && status < 500 });
       }
+      expect(rows.filter((x) => !x.ok)).toEqual([]);
+    });
+  }
+});
+
+/** Routes a token may never use: people's sign-in, account and user management. */
+const PEOPLE_ONLY = /^\/api\/(auth|account|users|audit)(\/|$)/;
+const isUpload = (r: RouteInfo) => r.method === 'POST' && r.path === '/api/jobs/:id/captures';
+
+describe('access table with API tokens (a technician\'s)', () => {
+  it('a revoked token: every gated route answers 401', async () => {
+    const rows = [];
+    for (const r of routes) rows.push({ route: `${r.method} ${r.path}`, status: (await send(tokenClients.revoked, r.method, concretePath(r.path, 'technician'))).status });
+    expect(rows.filter((x) => x.status !== 401)).toEqual([]);
+  });
+
+  for (const scope of API_TOKEN_SCOPES) {
+    it(`${scope}: writes outside the scope, people routes and routes the role refuses answer 403`, async () => {
+      const rows = [];
+      for (const r of routes) {
+        const inScope = r.method === 'GET' || (scope === 'upload_captures' && isUpload(r));
+        if (inScope && !PEOPLE_ONLY.test(r.path) && r.roles!.includes('technician')) continue;
+        rows.push({ route: `${r.method} ${r.path}`, status: (await send(tokenClients[scope], r.method, concretePath(r.path, 'technician'))).status });
+      }
+      expect(rows.length).toBeGreaterThan(10);
+      expect(rows.filter((x) => x.status !== 403)).toEqual([]);
+    });
+
+    it(`${scope}: allowed routes never reach another shop's rows`, async () => {
+      const rows = [];
+      for (const r of routes.filter((x) => x.roles!.includes('technician') && hasParams(x) && !PEOPLE_ONLY.test(x.path))) {
+        if (!(r.method === 'GET' || (scope === 'upload_captures' && isUpload(r)))) continue;
+        const status = (await send(tokenClients[scope], r.method, concretePath(r.path, 'technician'))).status;
+        rows.push({ route: `${r.method} ${r.path}`, status, ok: r.method === 'GET' ? status === 404 : [400, 404, 415].includes(status) });
+      }
+      expect(rows.length).toBeGreaterThan(5);
       expect(rows.filter((x) => !x.ok)).toEqual([]);
     });
   }

@@ -11,7 +11,11 @@ export class ApiClient {
   private cookies = new Map<string, string>();
   csrfToken: string | null = null;
 
-  constructor(readonly baseUrl: string) {}
+  /** With a token, every request carries it as "Authorization: Bearer" and no CSRF token, like a script. */
+  constructor(
+    readonly baseUrl: string,
+    readonly token: string | null = null,
+  ) {}
 
   private cookieHeader() {
     return [...this.cookies].map(([k, v]) => `${k}=${v}`).join('; ');
@@ -30,6 +34,7 @@ export class ApiClient {
 
   async raw(method: string, path: string, body?: unknown, opts: { csrf?: boolean; headers?: Record<string, string> } = {}): Promise<Response> {
     const headers: Record<string, string> = { ...opts.headers };
+    if (this.token) headers.authorization = `Bearer ${this.token}`;
     if (this.cookies.size) headers.cookie = this.cookieHeader();
     let payload: FormData | string | undefined;
     if (body instanceof FormData) payload = body;
@@ -37,7 +42,7 @@ export class ApiClient {
       headers['content-type'] = 'application/json';
       payload = JSON.stringify(body);
     }
-    if (method !== 'GET' && opts.csrf !== false) {
+    if (method !== 'GET' && opts.csrf !== false && !this.token) {
       if (!this.csrfToken) await this.refreshCsrf();
       headers['x-csrf-token'] = this.csrfToken!;
       if (this.cookies.size) headers.cookie = this.cookieHeader();

@@ -1,6 +1,8 @@
 import { pgTable, pgEnum, integer, text, timestamp, doublePrecision, index, jsonb } from 'drizzle-orm/pg-core';
+import { sql, type SQL } from 'drizzle-orm';
 import { UNIT_KINDS } from '../../../shared/customers';
 import { shops } from './shop';
+import { modelKeySql, SEARCH_CONFIG, serialKeySql, tsvector } from './search-columns';
 
 export const unitKindEnum = pgEnum('unit_kind', UNIT_KINDS);
 
@@ -15,8 +17,14 @@ export const customers = pgTable(
     address: text().notNull().default(''),
     notes: text().notNull().default(''),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    searchVector: tsvector()
+      .notNull()
+      .generatedAlwaysAs(
+        (): SQL =>
+          sql`setweight(to_tsvector(${SEARCH_CONFIG}, ${customers.name}), 'A') || setweight(to_tsvector(${SEARCH_CONFIG}, ${customers.email} || ' ' || ${customers.phone}), 'B') || setweight(to_tsvector(${SEARCH_CONFIG}, ${customers.notes}), 'C')`,
+      ),
   },
-  (t) => [index('customers_shop_idx').on(t.shopId)],
+  (t) => [index('customers_shop_idx').on(t.shopId), index('customers_search_idx').using('gin', t.searchVector).with({ fastupdate: false })],
 );
 
 export const units = pgTable(
@@ -33,8 +41,27 @@ export const units = pgTable(
     /** Source inputs on the selector, in the unit's spelling; empty = the usual ones for its kind. */
     inputs: jsonb().$type<string[]>().notNull().default([]),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    /** Maker and model as one forgiving key: earlier jobs on the same model are found by it. */
+    modelKey: text()
+      .notNull()
+      .generatedAlwaysAs((): SQL => modelKeySql(units.maker, units.model)),
+    serialKey: text()
+      .notNull()
+      .generatedAlwaysAs((): SQL => serialKeySql(units.serial)),
+    searchVector: tsvector()
+      .notNull()
+      .generatedAlwaysAs(
+        (): SQL =>
+          sql`setweight(to_tsvector(${SEARCH_CONFIG}, ${units.maker} || ' ' || ${units.model} || ' ' || ${units.serial}), 'A') || setweight(to_tsvector(${SEARCH_CONFIG}, ${units.notes}), 'C')`,
+      ),
   },
-  (t) => [index('units_shop_idx').on(t.shopId), index('units_customer_idx').on(t.customerId)],
+  (t) => [
+    index('units_shop_idx').on(t.shopId),
+    index('units_customer_idx').on(t.customerId),
+    index('units_model_key_idx').on(t.shopId, t.modelKey),
+    index('units_serial_key_idx').on(t.shopId, t.serialKey.op('text_pattern_ops')),
+    index('units_search_idx').using('gin', t.searchVector).with({ fastupdate: false }),
+  ],
 );
 
 /** Published figures for one maker and model, each with where it came from. */

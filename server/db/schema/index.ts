@@ -4,3 +4,4 @@ export * from './jobs';
 export * from './bench';
 export * from './billing';
 export * from './recordings';
+export * from './tokens';

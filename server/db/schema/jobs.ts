@@ -2,6 +2,8 @@ import { pgTable, pgEnum, integer, text, timestamp, index, doublePrecision } fro
 import { JOB_STATUSES } from '../../../shared/jobs';
 import { shops, users } from './shop';
 import { customers, units } from './customers';
+import { SEARCH_CONFIG, tsvector } from './search-columns';
+import { sql, type SQL } from 'drizzle-orm';
 
 export const jobStatusEnum = pgEnum('job_status', JOB_STATUSES);
 
@@ -21,8 +23,20 @@ export const jobs = pgTable(
     labourHours: doublePrecision().notNull().default(0),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    /** The fault as reported and as found weigh most; intake remarks less. */
+    searchVector: tsvector()
+      .notNull()
+      .generatedAlwaysAs(
+        (): SQL =>
+          sql`setweight(to_tsvector(${SEARCH_CONFIG}, ${jobs.reportedFault} || ' ' || ${jobs.faultFound}), 'A') || setweight(to_tsvector(${SEARCH_CONFIG}, ${jobs.conditionNotes} || ' ' || ${jobs.accessories}), 'C')`,
+      ),
   },
-  (t) => [index('jobs_shop_idx').on(t.shopId, t.status), index('jobs_customer_idx').on(t.customerId)],
+  (t) => [
+    index('jobs_shop_idx').on(t.shopId, t.status),
+    index('jobs_customer_idx').on(t.customerId),
+    index('jobs_unit_idx').on(t.unitId),
+    index('jobs_search_idx').using('gin', t.searchVector).with({ fastupdate: false }),
+  ],
 );
 
 /** The job's audit trail: status moves, notes and other changes, with who and when. */
@@ -40,8 +54,11 @@ export const jobEvents = pgTable(
     toStatus: jobStatusEnum(),
     note: text().notNull().default(''),
     at: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    searchVector: tsvector()
+      .notNull()
+      .generatedAlwaysAs((): SQL => sql`to_tsvector(${SEARCH_CONFIG}, ${jobEvents.note})`),
   },
-  (t) => [index('job_events_job_idx').on(t.jobId, t.at)],
+  (t) => [index('job_events_job_idx').on(t.jobId, t.at), index('job_events_search_idx').using('gin', t.searchVector).with({ fastupdate: false })],
 );
 
 /** Ordered stages of the unit's signal path where the technician probes. */

@@ -56,6 +56,7 @@ const routes: RouteRecordRaw[] = [
       { path: 'live', name: 'live.bench', component: () => import('@/views/live/LiveBenchView.vue'), meta: { roles: ['owner', 'technician'], title: 'Live bench' } },
       { path: 'test-signals', name: 'live.signals', component: () => import('@/views/live/TestSignalsView.vue'), meta: { roles: ['owner', 'technician'], title: 'Test signals' } },
       { path: 'people', name: 'people.list', component: () => import('@/views/people/PeopleView.vue'), meta: { roles: ['owner'], title: 'People' } },
+      { path: 'search', name: 'search', component: () => import('@/views/search/SearchView.vue'), meta: { title: 'Search' } },
       { path: 'account', name: 'account', component: () => import('@/views/account/AccountView.vue'), meta: { title: 'My account' } },
       { path: 'invoices', name: 'invoices.list', component: () => import('@/views/billing/InvoiceListView.vue'), meta: { roles: ['owner', 'front_desk'], title: 'Invoices' } },
       { path: 'invoices/:id(\\d+)', name: 'invoices.detail', component: () => import('@/views/billing/InvoiceDetailView.vue'), props: (r) => ({ id: Number(r.params.id) }), meta: { roles: ['owner', 'front_desk'], title: 'Invoice' } },
