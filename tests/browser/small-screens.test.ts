@@ -106,6 +106,23 @@ describe('phone, tablet and desktop widths', () => {
     await page.context().close();
   });
 
+  it('375 px: buttons and stand-alone links on the bench pages are at least 44 px each way', async () => {
+    // 44 × 44 CSS px: WCAG 2.2 success criterion 2.5.5 (target size, enhanced).
+    const page = await open(375, 'tech@quietpath.test');
+    const small: string[] = [];
+    for (const path of [`/jobs/${jobId}/measurements`, `/jobs/${jobId}/compare?before=${beforeId}&after=${afterId}`, '/jobs']) {
+      await page.goto(`${server.url}${path}`);
+      await page.locator('main h1').first().waitFor();
+      await page.waitForTimeout(1500);
+      const found = await page.evaluate<string[]>(`[...document.querySelectorAll('main button, main .p-button, main .crumbs a, main td > a, main a.measurements-link, main a.csv-link, main button.jump')]
+        .filter((e) => { const r = e.getBoundingClientRect(); return r.width > 0 && r.height > 0 && (r.height < 44 || r.width < 44); })
+        .map((e) => (e.textContent || e.getAttribute('aria-label') || e.tagName).trim().slice(0, 30) + ' ' + Math.round(e.getBoundingClientRect().width) + 'x' + Math.round(e.getBoundingClientRect().height))`);
+      small.push(...found.map((f) => `${path}: ${f}`));
+    }
+    expect(small).toEqual([]);
+    await page.context().close();
+  });
+
   it('375 px: a capture uploads from the device files and is measured; the form stacks', async () => {
     const page = await open(375, 'tech@quietpath.test');
     await page.goto(`${server.url}/jobs/${jobId}/measurements`);
