@@ -2,6 +2,7 @@
 import { join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { startCluster } from './lib/pg-cluster';
+import { filesOf, projectStorage } from './lib/project-storage';
 import { backup } from './lib/backup';
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
@@ -10,7 +11,12 @@ const out = process.argv[2] ? resolve(process.argv[2]) : join(root, 'backups', `
 
 try {
   const cluster = await startCluster({ dataDir: join(root, '.data', 'postgres'), port: 54329, database: 'quietpath', log: () => {} });
-  backup({ databaseUrl: cluster.url, filesDir: join(root, '.data', 'files') }, out);
+  const storage = await projectStorage(join(root, '.data'));
+  try {
+    await backup({ databaseUrl: cluster.url, ...filesOf(storage) }, out);
+  } finally {
+    await storage.stop();
+  }
   console.log(`Backup written to ${out}`);
 } catch (err) {
   console.error(`Backup failed: ${err instanceof Error ? err.message : String(err)}`);

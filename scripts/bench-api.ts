@@ -8,6 +8,10 @@
  *     references, one client at a time as a person types (three rounds, median p99), then 10 at once;
  *     target: median p99 < 100 ms.
  *  3. 10 concurrent 50 MB WAV uploads, then the time until all are analysed.
+ *  4. Several machines (not with BENCH_URL): upload → result for a 60 s 96 kHz/24-bit stereo
+ *     capture on local-folder and on S3 storage, and analysis throughput with 1 and 2 workers on
+ *     S3 (scripts/lib/bench-nodes.ts). `--only-nodes` runs just this part; `--big` adds a 700 MB
+ *     capture through S3 storage with the peak memory of the API node and the worker.
  */
 import { execFile, execFileSync } from 'node:child_process';
 import { promisify } from 'node:util';
@@ -21,6 +25,7 @@ import { seedDemo } from '../server/db/seed';
 import { seedSearchLoad } from './lib/seed-search-load';
 import { shops } from '../server/db/schema/index';
 import { startServer } from '../server/main';
+import { benchNodes } from './lib/bench-nodes';
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
 const work = join(root, 'bench-data');
@@ -194,6 +199,7 @@ async function main() {
   let base = process.env.BENCH_URL;
   let stop = async () => {};
   let seedLoad: (() => Promise<void>) | null = null;
+  let clusterUrl: string | null = null;
   if (!base) {
     const dataDir = join(work, 'api-cluster');
     rmSync(dataDir, { recursive: true, force: true });
@@ -201,6 +207,7 @@ async function main() {
     const { db, pool } = createDb(cluster.url);
     await runMigrations(db);
     await seedDemo(db);
+    clusterUrl = cluster.url;
     seedLoad = async () => {
       const [shop] = await db.select({ id: shops.id }).from(shops).limit(1);
       const started = performance.now();
@@ -222,6 +229,21 @@ async function main() {
     };
   }
   try {
+    if (!process.argv.includes('--only-nodes')) await loadSearchAndUploads(base, seedLoad);
+    if (clusterUrl && !process.argv.includes('--only-search')) {
+      console.log('Several machines: 60 s 96 kHz/24-bit stereo captures, API node and workers in their own processes…');
+      const nodes = await benchNodes({ root, work, clusterUrl, big: process.argv.includes('--big') });
+      console.table(nodes.uploadToResult);
+      console.table(nodes.throughput);
+      if (nodes.bigCapture.length) console.table(nodes.bigCapture);
+    }
+  } finally {
+    await stop();
+  }
+}
+
+async function loadSearchAndUploads(base: string, seedLoad: (() => Promise<void>) | null) {
+  {
     const auth = await signIn(base, 'tech@quietpath.test');
     if (!process.argv.includes('--only-search')) {
       const rows = [await load(`${base}/api/jobs`, auth.cookie), await load(`${base}/api/jobs/1`, auth.cookie)];
@@ -238,8 +260,6 @@ async function main() {
     if (process.argv.includes('--skip-uploads') || process.argv.includes('--only-search')) return;
     console.log('10 concurrent 50 MB uploads…');
     console.table([await uploads(base, auth, 1)]);
-  } finally {
-    await stop();
   }
 }
 

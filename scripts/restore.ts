@@ -5,6 +5,7 @@
 import { join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { startCluster } from './lib/pg-cluster';
+import { filesOf, projectStorage } from './lib/project-storage';
 import { newestBackup, restore } from './lib/backup';
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
@@ -13,7 +14,12 @@ const from = process.argv[2] ? resolve(process.argv[2]) : newestBackup(join(root
 try {
   if (!from) throw new Error('no backup found in backups/; name a folder: npm run restore -- FOLDER');
   const cluster = await startCluster({ dataDir: join(root, '.data', 'postgres'), port: 54329, database: 'quietpath', log: () => {} });
-  await restore({ databaseUrl: cluster.url, filesDir: join(root, '.data', 'files') }, from);
+  const storage = await projectStorage(join(root, '.data'));
+  try {
+    await restore({ databaseUrl: cluster.url, ...filesOf(storage) }, from);
+  } finally {
+    await storage.stop();
+  }
   console.log(`Restored ${from}`);
 } catch (err) {
   console.error(`Restore failed: ${err instanceof Error ? err.message : String(err)}`);

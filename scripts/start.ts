@@ -14,6 +14,7 @@ import { benchDemo } from '../server/db/seed-bench';
 import { seedCaptures } from '../server/db/seed-captures';
 import { seedHistory } from '../server/db/seed-history';
 import { startServer } from '../server/main';
+import { projectStorage } from './lib/project-storage';
 
 const root = resolve(fileURLToPath(new URL('..', import.meta.url)));
 const dataDir = join(root, '.data');
@@ -24,23 +25,23 @@ async function main() {
   const cluster = await startCluster({ dataDir: join(dataDir, 'postgres'), port: PG_PORT, database: 'quietpath' });
   const { db, pool } = createDb(cluster.url);
   await runMigrations(db);
-  const filesDir = process.env.FILES_DIR ?? join(dataDir, 'files');
-  const seeded = await seedDemo(db, [benchDemo, seedCaptures(filesDir), seedHistory]);
+  const { env, store, localS3, stop: stopStorage } = await projectStorage(dataDir);
+  const seeded = await seedDemo(db, [benchDemo, seedCaptures(store), seedHistory]);
   await pool.end();
   const webDist = ensureWebBuild(root);
 
   const server = await startServer({
-    ...process.env,
+    ...env,
     DATABASE_URL: cluster.url,
     HOST: process.env.HOST ?? '127.0.0.1',
     PORT: process.env.PORT ?? '3000',
     SESSION_SECRET: process.env.SESSION_SECRET ?? persistentSecret(join(dataDir, 'session-secret')),
-    FILES_DIR: filesDir,
     WEB_DIST: webDist,
   });
 
   console.log(`\nQuietpath is running at ${server.url}/`);
   console.log(seeded ? 'Demo data was created.' : 'Using the existing data in .data/.');
+  if (localS3) console.log(`Stored files: a local S3-compatible server at ${localS3.endpoint}, bucket "${localS3.bucket}" (objects in .data/s3).`);
   console.log(`Outbox (every e-mail sent, with attachments): ${server.url}/outbox`);
   if (!process.env.SMTP_URL) console.log('  E-mail is delivered to a built-in local mailbox; nothing leaves this machine.');
   if (!process.env.STRIPE_SECRET_KEY) console.log('  Payments use a built-in test payment service; no money moves.');
@@ -53,6 +54,7 @@ async function main() {
     if (stopping) return;
     stopping = true;
     await server.close().catch(() => undefined);
+    await stopStorage();
     cluster.stop();
     process.exit(0);
   };

@@ -28,9 +28,10 @@ import { captureRoutes } from './routes/captures';
 import { measurementRoutes } from './routes/measurements';
 import { calibrationRoutes } from './routes/calibrations';
 import { recordingRoutes, signalRoutes } from './routes/recordings';
+import type { FileStore } from './storage/file-store';
 import type { AnalysisQueue } from './services/analysis-queue';
 import { CachedSessionStore } from './services/cached-session-store';
-import { SignedInCache } from './services/signed-in-cache';
+import type { SignedInCache } from './services/signed-in-cache';
 import type { BillingRuntime } from './billing-runtime';
 import { billingRoutes, paymentWebhookRoutes } from './routes/payments';
 
@@ -42,12 +43,16 @@ export interface AppDeps {
   queue: AnalysisQueue;
   /** Mail and payment clients (real, or the local stand-ins). */
   billing: BillingRuntime;
+  /** Where captures and recording chunks are stored. */
+  store: FileStore;
+  /** Who is signed in, remembered between requests (shared with other nodes by main.ts). */
+  signedIn: SignedInCache;
 }
 
 export const SESSION_COOKIE = 'qp.sid';
 const SESSION_HOURS = 12;
 
-export function createApp({ config, db, pool, queue, billing }: AppDeps): Express {
+export function createApp({ config, db, pool, queue, billing, store, signedIn }: AppDeps): Express {
   const app = express();
   app.disable('x-powered-by');
   app.set('etag', false);
@@ -56,7 +61,6 @@ export function createApp({ config, db, pool, queue, billing }: AppDeps): Expres
 
   app.use(cookieParser());
   const PgStore = connectPgSimple(session);
-  const signedIn = new SignedInCache(config.SIGNED_IN_CACHE_MS);
   app.use(
     session({
       name: SESSION_COOKIE,
@@ -100,11 +104,11 @@ export function createApp({ config, db, pool, queue, billing }: AppDeps): Expres
   api.use(apiTokenRoutes(db));
   api.use(modelHistoryRoutes(db));
   api.use(searchRoutes(db));
-  api.use(captureRoutes(db, config, queue));
-  api.use(captureAudioRoutes(db, config));
+  api.use(captureRoutes(db, config, queue, store));
+  api.use(captureAudioRoutes(db, store));
   api.use(measurementRoutes(db));
   api.use(calibrationRoutes(db));
-  api.use(recordingRoutes(db, config, queue));
+  api.use(recordingRoutes(db, config, queue, store));
   api.use(signalRoutes());
   api.use(billingRoutes(db, billing, signedIn));
   api.use(apiNotFound);

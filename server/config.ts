@@ -1,12 +1,13 @@
 import { z } from 'zod';
+import { checkStorageEnv, storageEnvShape } from './storage/storage-config';
 
 const configSchema = z.object({
   DATABASE_URL: z.string().url(),
   HOST: z.string().default('127.0.0.1'),
   PORT: z.coerce.number().int().min(0).max(65535).default(3000),
   SESSION_SECRET: z.string().min(32, 'SESSION_SECRET must be at least 32 characters'),
-  /** Where uploaded files are stored, content-addressed. */
-  FILES_DIR: z.string().min(1),
+  /** Where stored files live: STORAGE, FILES_DIR and the S3_* settings (see storage-config.ts). */
+  ...storageEnvShape,
   /** Built web app to serve; absent in API-only tests. */
   WEB_DIST: z.string().optional(),
   COOKIE_SECURE: z
@@ -34,7 +35,7 @@ const configSchema = z.object({
   STRIPE_API_BASE: z.string().url().optional(),
   /** Address customers reach the app at, for links in e-mails and payment returns; the server's own when absent. */
   PUBLIC_URL: z.string().url().optional(),
-});
+}).superRefine(checkStorageEnv);
 export type Config = z.infer<typeof configSchema>;
 
 export function loadConfig(env: Record<string, string | undefined> = process.env): Config {

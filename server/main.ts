@@ -9,6 +9,9 @@ import { startBilling } from './billing-runtime';
 import { startAnalysisQueue } from './services/analysis-queue';
 import { sweepOrphanedUploads } from './services/capture-storage';
 import { startAnalysisWorker } from './worker/analysis-worker';
+import { openFileStore, storageSettings } from './storage/storage-config';
+import { SignedInCache } from './services/signed-in-cache';
+import { shareSignedInChanges } from './services/signed-in-sharing';
 
 export interface RunningServer {
   url: string;
@@ -34,14 +37,17 @@ export async function startServer(env: Record<string, string | undefined> = proc
   const config: Config = loadConfig(env);
   const { pool, db } = createDb(config.DATABASE_URL);
   await runMigrations(db);
-  await sweepOrphanedUploads(config.FILES_DIR);
+  const store = await openFileStore(storageSettings(config));
+  await sweepOrphanedUploads(store.scratchDir);
   const queue = await startAnalysisQueue(config.DATABASE_URL, {
     expireSeconds: config.ANALYSIS_EXPIRE_SECONDS,
     maintenanceSeconds: config.QUEUE_MAINTENANCE_SECONDS,
   });
-  const worker = config.WORKER === 'on' ? await startAnalysisWorker({ queue, db, filesDir: config.FILES_DIR }) : null;
+  const worker = config.WORKER === 'on' ? await startAnalysisWorker({ queue, db, store }) : null;
   const billing = await startBilling(config, db);
-  const app = createApp({ config, db, pool, queue, billing });
+  const signedIn = new SignedInCache(config.SIGNED_IN_CACHE_MS);
+  const sharing = config.SIGNED_IN_CACHE_MS > 0 ? await shareSignedInChanges(config.DATABASE_URL, pool, signedIn) : null;
+  const app = createApp({ config, db, pool, queue, billing, store, signedIn });
   const server: Server = await new Promise((resolve) => {
     const s = app.listen(config.PORT, config.HOST, () => resolve(s));
   });
@@ -58,6 +64,7 @@ export async function startServer(env: Record<string, string | undefined> = proc
       await worker?.stop();
       await queue.stop();
       await billing.close();
+      await sharing?.close();
       await pool.end();
     },
   };

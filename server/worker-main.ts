@@ -1,26 +1,40 @@
 /**
- * A stand-alone analysis worker: `tsx server/worker-main.ts` with DATABASE_URL and FILES_DIR
- * pointing at the same database and the same stored files as the server (a shared mount when it
- * runs on another machine). Start as many as the bench needs; pg-boss hands each job to one.
+ * A stand-alone analysis worker: `tsx server/worker-main.ts` with DATABASE_URL and the same
+ * storage settings as the servers (STORAGE=s3 with the S3_* settings, or FILES_DIR on a shared
+ * mount). Start as many as the work needs, on any machine; pg-boss hands each job to one.
  */
 import { z } from 'zod';
 import { createDb } from './db/client';
 import { runMigrations } from './db/migrate';
 import { startAnalysisQueue } from './services/analysis-queue';
+import { checkStorageEnv, openFileStore, storageEnvShape, storageSettings } from './storage/storage-config';
 import { startAnalysisWorker } from './worker/analysis-worker';
 
-const envSchema = z.object({ DATABASE_URL: z.string().url(), FILES_DIR: z.string().min(1) });
+const envSchema = z
+  .object({
+    DATABASE_URL: z.string().url(),
+    ...storageEnvShape,
+    /** As for the server: an analysis running longer is taken as lost and run again. */
+    ANALYSIS_EXPIRE_SECONDS: z.coerce.number().int().min(1).max(86_400).optional(),
+    QUEUE_MAINTENANCE_SECONDS: z.coerce.number().int().min(1).max(3600).optional(),
+  })
+  .superRefine(checkStorageEnv);
 
 async function main() {
   const parsed = envSchema.safeParse(process.env);
   if (!parsed.success) {
-    throw new Error(`Set ${parsed.error.issues.map((i) => i.path.join('.')).join(' and ')} for the worker`);
+    const lines = parsed.error.issues.map((i) => `  ${i.path.join('.')}: ${i.message}`).join('\n');
+    throw new Error(`Invalid worker settings:\n${lines}`);
   }
   const env = parsed.data;
+  const store = await openFileStore(storageSettings(env));
   const { db, pool } = createDb(env.DATABASE_URL);
   await runMigrations(db);
-  const queue = await startAnalysisQueue(env.DATABASE_URL);
-  const worker = await startAnalysisWorker({ queue, db, filesDir: env.FILES_DIR, log: (m) => console.error(m) });
+  const queue = await startAnalysisQueue(env.DATABASE_URL, {
+    expireSeconds: env.ANALYSIS_EXPIRE_SECONDS,
+    maintenanceSeconds: env.QUEUE_MAINTENANCE_SECONDS,
+  });
+  const worker = await startAnalysisWorker({ queue, db, store, log: (m) => console.error(m) });
   console.log('Analysis worker running; Ctrl+C to stop.');
   let stopping = false;
   const stop = async () => {

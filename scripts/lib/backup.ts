@@ -1,16 +1,43 @@
 /**
  * Backups of the whole shop: a pg_dump (custom format) of the database plus a copy of the stored
- * files, in one folder. Restore replaces both.
+ * files (from the local folder, or every object of the S3 bucket), in one folder. Restore
+ * replaces both.
  */
 import { spawnSync } from 'node:child_process';
 import { cpSync, existsSync, mkdirSync, readdirSync, rmSync, writeFileSync, readFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { createWriteStream } from 'node:fs';
+import { mkdir, readdir } from 'node:fs/promises';
+import { dirname, join, relative, sep } from 'node:path';
+import { pipeline } from 'node:stream/promises';
 import pg from 'pg';
+import type { FileStore } from '../../server/storage/file-store';
 import { ensurePostgresBinaries } from './pg-cluster';
 
-interface Target {
-  databaseUrl: string;
-  filesDir: string;
+/** The database and where its files are: a local folder, or a store (an S3 bucket). */
+type Target = { databaseUrl: string } & ({ filesDir: string } | { store: FileStore });
+
+/** Every stored object into a folder, one file per key, streamed. */
+async function copyOut(store: FileStore, dir: string): Promise<void> {
+  mkdirSync(dir, { recursive: true });
+  for await (const key of store.list()) {
+    const path = join(dir, ...key.split('/'));
+    await mkdir(dirname(path), { recursive: true });
+    await pipeline(await store.openRead(key), createWriteStream(path));
+  }
+}
+
+async function filesUnder(dir: string): Promise<string[]> {
+  const entries = await readdir(dir, { recursive: true, withFileTypes: true });
+  return entries.filter((e) => e.isFile()).map((e) => relative(dir, join(e.parentPath, e.name)).split(sep).join('/'));
+}
+
+/** The folder's files into the store, then whatever the backup does not have is removed. */
+async function copyIn(store: FileStore, dir: string): Promise<void> {
+  const keys = new Set(await filesUnder(dir));
+  for (const key of keys) await store.putFile(key, join(dir, ...key.split('/')));
+  const extra: string[] = [];
+  for await (const key of store.list()) if (!keys.has(key)) extra.push(key);
+  for (const key of extra) await store.remove(key);
 }
 
 function pgTool(tool: string, args: string[], databaseUrl: string): void {
@@ -28,10 +55,11 @@ function pgTool(tool: string, args: string[], databaseUrl: string): void {
   if (res.status !== 0) throw new Error(`${tool} failed: ${(res.stderr || res.stdout).trim()}`);
 }
 
-export function backup(target: Target, outDir: string): string {
+export async function backup(target: Target, outDir: string): Promise<string> {
   mkdirSync(outDir, { recursive: true });
   pgTool('pg_dump', ['--format=custom', '--no-owner', '--file', join(outDir, 'database.dump')], target.databaseUrl);
-  if (existsSync(target.filesDir)) cpSync(target.filesDir, join(outDir, 'files'), { recursive: true });
+  if ('store' in target) await copyOut(target.store, join(outDir, 'files'));
+  else if (existsSync(target.filesDir)) cpSync(target.filesDir, join(outDir, 'files'), { recursive: true });
   else mkdirSync(join(outDir, 'files'));
   writeFileSync(join(outDir, 'backup.json'), JSON.stringify({ madeAt: new Date().toISOString(), format: 1 }, null, 2));
   return outDir;
@@ -67,6 +95,10 @@ export async function restore(target: Target, fromDir: string): Promise<void> {
     ['--no-owner', '--exit-on-error', '--single-transaction', '--dbname', new URL(target.databaseUrl).pathname.slice(1), join(fromDir, 'database.dump')],
     target.databaseUrl,
   );
+  if ('store' in target) {
+    await copyIn(target.store, join(fromDir, 'files'));
+    return;
+  }
   const staged = `${target.filesDir}.restoring`;
   rmSync(staged, { recursive: true, force: true });
   cpSync(join(fromDir, 'files'), staged, { recursive: true });

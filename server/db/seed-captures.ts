@@ -15,7 +15,8 @@ import { SIGNAL_PATH_TEMPLATES } from '../../shared/test-points';
 import type { DbOrTx } from './client';
 import type { DemoExtension } from './seed';
 import { calibrationProfiles, captures, testPoints } from './schema/index';
-import { storeContentAddressed, tempDir } from '../services/capture-storage';
+import { removeQuietly, storeContentAddressed } from '../services/capture-storage';
+import type { FileStore } from '../storage/file-store';
 
 const SAMPLES = fileURLToPath(new URL('../../samples-synthetic/', import.meta.url));
 const HOUR = 3600_000;
@@ -70,19 +71,23 @@ async function demoTestPoints(tx: DbOrTx, shopId: number, jobId: number): Promis
   return new Map(rows.map((r) => [r.position, r.id]));
 }
 
-async function storeSample(filesDir: string, name: string) {
+async function storeSample(store: FileStore, name: string) {
   const bytes = await readFile(join(SAMPLES, name));
   const info = readWavInfo(bytes, { fileSize: bytes.length });
   const sha256 = createHash('sha256').update(bytes).digest('hex');
-  await mkdir(tempDir(filesDir), { recursive: true });
-  const temp = join(tempDir(filesDir), `seed-${randomBytes(8).toString('hex')}.part`);
+  await mkdir(store.scratchDir, { recursive: true });
+  const temp = join(store.scratchDir, `seed-${randomBytes(8).toString('hex')}.part`);
   await writeFile(temp, bytes);
-  await storeContentAddressed(filesDir, temp, sha256);
+  try {
+    await storeContentAddressed(store, temp, sha256);
+  } finally {
+    await removeQuietly(temp);
+  }
   return { bytes, info, sha256 };
 }
 
 /** The demo extension, given where this install keeps its files. */
-export function seedCaptures(filesDir: string): DemoExtension {
+export function seedCaptures(store: FileStore): DemoExtension {
   return async (tx, ids) => {
     const { shopId } = ids;
     const jobId = ids.jobIds[0]!;
@@ -111,7 +116,7 @@ export function seedCaptures(filesDir: string): DemoExtension {
     const calibrationIds = { line: line!.id, speaker: speaker!.id };
     const now = Date.now();
     for (const demo of DEMO_CAPTURES) {
-      const { bytes, info, sha256 } = await storeSample(filesDir, demo.file);
+      const { bytes, info, sha256 } = await storeSample(store, demo.file);
       await tx.insert(captures).values({
         shopId,
         jobId,

@@ -1,3 +1,5 @@
+import type { Readable } from 'node:stream';
+import { pipeline } from 'node:stream/promises';
 import { Router, type RequestHandler } from 'express';
 import multer from 'multer';
 import type { Config } from '../config';
@@ -7,7 +9,8 @@ import { currentUser, requireRole } from '../middleware/auth';
 import { idParam } from '../middleware/validate';
 import { HttpError, badRequest } from '../http-error';
 import type { AnalysisQueue } from '../services/analysis-queue';
-import { hashingStorage, removeQuietly, tempDir } from '../services/capture-storage';
+import { hashingStorage, readCapture, removeQuietly } from '../services/capture-storage';
+import type { FileStore } from '../storage/file-store';
 import { jobForViewer } from '../services/job-access';
 import * as svc from '../services/captures';
 
@@ -45,14 +48,14 @@ function parseMetadata(raw: unknown, files: Express.Multer.File[]): CaptureFileM
   throw new HttpError(400, `${where ? `${where}: ` : ''}${issue.message}`, 'validation', parsed.error.issues);
 }
 
-export function captureRoutes(db: Db, config: Config, queue: AnalysisQueue): Router {
+export function captureRoutes(db: Db, config: Config, queue: AnalysisQueue, store: FileStore): Router {
   const r = Router();
   const staff = requireRole('owner', 'technician', 'front_desk');
   const bench = requireRole('owner', 'technician');
   const shopOf = (req: Req) => currentUser(req).shop.id;
   const maxBytes = Math.round(config.UPLOAD_MAX_MB * 1e6);
   const receive = multer({
-    storage: hashingStorage(tempDir(config.FILES_DIR)),
+    storage: hashingStorage(store.scratchDir),
     limits: { fileSize: maxBytes, files: MAX_FILES_PER_UPLOAD, fields: 8, fieldSize: 256 * 1024, parts: MAX_FILES_PER_UPLOAD + 8 },
   }).array('files', MAX_FILES_PER_UPLOAD);
   const upload: RequestHandler = (req, res, next) =>
@@ -71,7 +74,7 @@ export function captureRoutes(db: Db, config: Config, queue: AnalysisQueue): Rou
       const meta = files.length ? parseMetadata((req.body as Record<string, unknown>).metadata, files) : [];
       const staged = files.map((f) => ({ originalName: f.originalname, tempPath: f.path, size: f.size, sha256: f.sha256!, head: f.head! }));
       const checked = await svc.checkUpload(db, user.shop.id, jobId, staged, meta);
-      const ids = await svc.storeCaptures(db, queue, config.FILES_DIR, { shopId: user.shop.id, jobId, userId: user.id }, checked);
+      const ids = await svc.storeCaptures(db, queue, store, { shopId: user.shop.id, jobId, userId: user.id }, checked);
       queue.wake();
       res.status(201).json({ captures: await svc.getCaptures(db, user.shop.id, ids) });
     } finally {
@@ -91,12 +94,19 @@ export function captureRoutes(db: Db, config: Config, queue: AnalysisQueue): Rou
     res.json(await svc.getAnalysisResult(db, shopOf(req), idParam(req.params.id, 'Capture')));
   });
   r.get('/captures/:id/file', staff, async (req, res) => {
-    const file = await svc.captureFile(db, config.FILES_DIR, shopOf(req), idParam(req.params.id, 'Capture'));
+    const file = await svc.captureFile(db, shopOf(req), idParam(req.params.id, 'Capture'));
+    let body: Readable;
+    try {
+      body = await readCapture(store, file.sha256);
+    } catch (err) {
+      if ((err as NodeJS.ErrnoException).code === 'ENOENT') throw new HttpError(404, 'The stored file is missing', 'not_found');
+      throw err;
+    }
     res.attachment(file.name);
     res.type('audio/wav');
-    res.sendFile(file.path, { dotfiles: 'allow' }, (err) => {
-      if (err && !res.headersSent) res.status(404).json({ error: 'The stored file is missing', code: 'not_found' });
-    });
+    res.setHeader('Content-Length', String(file.sizeBytes));
+    // A client that goes away ends the read; the stored file is untouched either way.
+    await pipeline(body, res).catch(() => undefined);
   });
   r.post('/captures/:id/analyse', bench, async (req, res) => {
     const id = idParam(req.params.id, 'Capture');
@@ -105,7 +115,7 @@ export function captureRoutes(db: Db, config: Config, queue: AnalysisQueue): Rou
     res.status(202).json(await svc.getCapture(db, shopOf(req), id));
   });
   r.delete('/captures/:id', bench, async (req, res) => {
-    await svc.deleteCapture(db, config.FILES_DIR, shopOf(req), idParam(req.params.id, 'Capture'));
+    await svc.deleteCapture(db, store, shopOf(req), idParam(req.params.id, 'Capture'));
     res.status(204).end();
   });
   return r;

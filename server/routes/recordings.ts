@@ -9,6 +9,7 @@ import { HttpError } from '../http-error';
 import type { AnalysisQueue } from '../services/analysis-queue';
 import { getCapture } from '../services/captures';
 import * as svc from '../services/recordings';
+import type { FileStore } from '../storage/file-store';
 
 type Req = Parameters<RequestHandler>[0];
 
@@ -22,7 +23,7 @@ const receiveChunk: RequestHandler = (req, res, next) =>
   });
 
 /** Live-bench recordings streamed in chunks and finished into captures: bench work. */
-export function recordingRoutes(db: Db, config: Config, queue: AnalysisQueue): Router {
+export function recordingRoutes(db: Db, config: Config, queue: AnalysisQueue, store: FileStore): Router {
   const r = Router();
   const bench = requireRole('owner', 'technician');
   const shopOf = (req: Req) => currentUser(req).shop.id;
@@ -45,12 +46,12 @@ export function recordingRoutes(db: Db, config: Config, queue: AnalysisQueue): R
       throw new HttpError(415, 'Send the chunk as raw samples with Content-Type: application/octet-stream', 'unsupported_media_type');
     }
     const seq = parse(chunkSeqSchema, req.params.seq);
-    res.json(await svc.putChunk(db, config.FILES_DIR, shopOf(req), id, seq, req.body, maxDataBytes));
+    res.json(await svc.putChunk(db, store, shopOf(req), id, seq, req.body, maxDataBytes));
   });
   r.post('/recordings/:id/finish', bench, async (req, res) => {
     const user = currentUser(req);
     const id = recordingId(req);
-    const outcome = await svc.finishRecording(db, queue, config.FILES_DIR, user, id);
+    const outcome = await svc.finishRecording(db, queue, store, user, id);
     if (outcome.created) queue.wake();
     res.status(outcome.created ? 201 : 200).json({
       recording: await svc.getRecording(db, user.shop.id, id),
@@ -58,7 +59,7 @@ export function recordingRoutes(db: Db, config: Config, queue: AnalysisQueue): R
     });
   });
   r.delete('/recordings/:id', bench, async (req, res) => {
-    await svc.discardRecording(db, config.FILES_DIR, shopOf(req), recordingId(req));
+    await svc.discardRecording(db, store, shopOf(req), recordingId(req));
     res.status(204).end();
   });
   return r;

@@ -1,14 +1,16 @@
 import { createHash, randomBytes } from 'node:crypto';
-import { createReadStream, createWriteStream } from 'node:fs';
-import { mkdir, open, readdir, rename, stat, unlink } from 'node:fs/promises';
+import { createWriteStream } from 'node:fs';
+import { mkdir, readdir, stat, unlink } from 'node:fs/promises';
 import { join } from 'node:path';
 import { Transform, type Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import type { StorageEngine } from 'multer';
+import type { ByteRange, FileStore } from '../storage/file-store';
 
-// Captures live content-addressed under FILES_DIR/ab/cd/<sha256>.wav: identical recordings are
-// stored once, a stored file never changes, and its name proves its content.
-// Uploads land first in FILES_DIR/tmp under a random name, hashed while they stream in.
+// Captures are stored content-addressed under the key ab/cd/<sha256>.wav: identical recordings
+// are stored once, a stored file never changes, and its name proves its content.
+// Uploads land first in this node's scratch folder under a random name, hashed while they stream
+// in, and go to the store (a local folder or a shared bucket) only once checked.
 
 /** Bytes kept from the start of each upload for header validation. */
 export const HEAD_BYTES = 64 * 1024;
@@ -26,11 +28,17 @@ declare global {
   }
 }
 
+/** The scratch folder of a local store rooted at filesDir. */
 export const tempDir = (filesDir: string) => join(filesDir, 'tmp');
 
-export function storagePath(filesDir: string, sha256: string): string {
+export function captureKey(sha256: string): string {
   if (!/^[0-9a-f]{64}$/.test(sha256)) throw new Error(`not a SHA-256 hex digest: ${sha256}`);
-  return join(filesDir, sha256.slice(0, 2), sha256.slice(2, 4), `${sha256}.wav`);
+  return `${sha256.slice(0, 2)}/${sha256.slice(2, 4)}/${sha256}.wav`;
+}
+
+/** Where a local store rooted at filesDir keeps a capture. */
+export function storagePath(filesDir: string, sha256: string): string {
+  return join(filesDir, ...captureKey(sha256).split('/'));
 }
 
 export async function removeQuietly(path: string | undefined): Promise<void> {
@@ -83,63 +91,23 @@ export function hashingStorage(dir: string): StorageEngine {
   };
 }
 
-/** A stored capture opened for reading: its length, and any byte range of it as a stream. */
-export interface StoredCaptureBytes {
-  size: number;
-  /** Bytes start … end inclusive (HTTP range numbering), or the whole file. */
-  read(range?: { start: number; end: number }): Readable;
-}
-
 /**
- * The one way stored capture bytes are read for sending (playback, range requests), so a storage
- * driver other than the local folder only has to answer here. Null when the file is missing.
+ * Moves a hashed temp file into content-addressed storage: afterwards the store holds either no
+ * file or the whole file under its hash. Returns created = false when the same content was
+ * already stored. The temp file is gone afterwards unless storing failed.
  */
-export async function openStoredCapture(filesDir: string, sha256: string): Promise<StoredCaptureBytes | null> {
-  const path = storagePath(filesDir, sha256);
-  const info = await stat(path).catch((err: NodeJS.ErrnoException) => {
-    if (err.code === 'ENOENT') return null;
-    throw err;
-  });
-  if (!info) return null;
-  return {
-    size: info.size,
-    read: (range) => createReadStream(path, range ? { start: range.start, end: range.end, highWaterMark: 256 * 1024 } : { highWaterMark: 256 * 1024 }),
-  };
+export async function storeContentAddressed(store: FileStore, tempPath: string, sha256: string): Promise<{ created: boolean }> {
+  return store.putFileOnce(captureKey(sha256), tempPath);
 }
 
-async function fsyncPath(path: string, flags: 'r' | 'r+'): Promise<void> {
-  const handle = await open(path, flags);
-  try {
-    await handle.sync();
-  } finally {
-    await handle.close();
-  }
+/** A stored capture's bytes, whole or a range of them (for downloads and playback). */
+export function readCapture(store: FileStore, sha256: string, range?: ByteRange): Promise<Readable> {
+  return store.openRead(captureKey(sha256), range);
 }
 
-/**
- * Moves a hashed temp file into content-addressed storage. The data is fsynced before the rename
- * and the folder after it, so a crash leaves either no file or the whole file under its hash.
- * Returns created = false when the same content was already stored (the temp file is removed).
- */
-export async function storeContentAddressed(filesDir: string, tempPath: string, sha256: string): Promise<{ path: string; created: boolean }> {
-  const target = storagePath(filesDir, sha256);
-  const exists = await stat(target).then(
-    () => true,
-    (err: NodeJS.ErrnoException) => {
-      if (err.code === 'ENOENT') return false;
-      throw err;
-    },
-  );
-  if (exists) {
-    await removeQuietly(tempPath);
-    return { path: target, created: false };
-  }
-  const folder = join(filesDir, sha256.slice(0, 2), sha256.slice(2, 4));
-  await mkdir(folder, { recursive: true });
-  await fsyncPath(tempPath, 'r+');
-  await rename(tempPath, target);
-  await fsyncPath(folder, 'r').catch(() => undefined); // not every file system syncs folders
-  return { path: target, created: true };
+/** A stored capture's size in bytes, or null when its file is missing. */
+export function storedCaptureSize(store: FileStore, sha256: string): Promise<number | null> {
+  return store.size(captureKey(sha256));
 }
 
 function processAlive(pid: number): boolean {
@@ -152,16 +120,15 @@ function processAlive(pid: number): boolean {
 }
 
 /**
- * Removes half-received uploads left by a server that was killed mid-request: temp files whose
- * writing process is gone, and any other temp file older than a day.
+ * Removes half-received uploads left in this node's scratch folder by a server that was killed
+ * mid-request: temp files whose writing process is gone, and any other temp file older than a day.
  */
-export async function sweepOrphanedUploads(filesDir: string): Promise<number> {
-  const dir = tempDir(filesDir);
-  const names = await readdir(dir).catch(() => [] as string[]);
+export async function sweepOrphanedUploads(scratchDir: string): Promise<number> {
+  const names = await readdir(scratchDir).catch(() => [] as string[]);
   let removed = 0;
   for (const name of names) {
     const owner = /^upload-(\d+)-[0-9a-f]+\.part$/.exec(name);
-    const path = join(dir, name);
+    const path = join(scratchDir, name);
     const stale = owner
       ? Number(owner[1]) !== process.pid && !processAlive(Number(owner[1]))
       : Date.now() - (await stat(path)).mtimeMs > 24 * 3600_000;

@@ -13,7 +13,8 @@ import { matchInput } from '../../shared/inputs';
 import { unitInputs } from './customers';
 import { HttpError, badRequest, notFound } from '../http-error';
 import type { AnalysisQueue } from './analysis-queue';
-import { removeQuietly, storagePath, storeContentAddressed } from './capture-storage';
+import { captureKey, storeContentAddressed } from './capture-storage';
+import type { FileStore } from '../storage/file-store';
 
 /** One uploaded file as the storage engine left it in the temp folder. */
 export interface StagedFile {
@@ -156,19 +157,19 @@ export function resolveCaptureInputs(
 export async function storeCaptures(
   db: DbOrTx,
   queue: AnalysisQueue,
-  filesDir: string,
+  store: FileStore,
   ctx: { shopId: number; jobId: number; userId: number },
   checked: CheckedFile[],
 ): Promise<number[]> {
-  const created: { sha256: string; path: string }[] = [];
+  const created: string[] = [];
   try {
     return await db.transaction(async (tx) => {
       const ids: number[] = [];
       // In one sorted order, so two uploads sharing files cannot deadlock.
       for (const sha of [...new Set(checked.map((c) => c.file.sha256))].sort()) await lockContent(tx, sha);
       for (const { file, meta, info } of checked) {
-        const stored = await storeContentAddressed(filesDir, file.tempPath, file.sha256);
-        if (stored.created) created.push({ sha256: file.sha256, path: stored.path });
+        const stored = await storeContentAddressed(store, file.tempPath, file.sha256);
+        if (stored.created) created.push(file.sha256);
         const [row] = await tx
           .insert(captures)
           .values({
@@ -199,17 +200,14 @@ export async function storeCaptures(
       return ids;
     });
   } catch (err) {
-    await removeUnreferenced(db, created);
+    await removeUnreferenced(db, store, created);
     throw err;
   }
 }
 
 /** After a transaction that stored files was rolled back: drops those no capture refers to. */
-export async function removeStoredIfUnreferenced(db: Db, filesDir: string, sha256s: string[]): Promise<void> {
-  await removeUnreferenced(
-    db,
-    sha256s.map((sha256) => ({ sha256, path: storagePath(filesDir, sha256) })),
-  );
+export async function removeStoredIfUnreferenced(db: Db, store: FileStore, sha256s: string[]): Promise<void> {
+  await removeUnreferenced(db, store, sha256s);
 }
 
 /**
@@ -221,12 +219,12 @@ async function lockContent(tx: DbOrTx, sha256: string): Promise<void> {
   await tx.execute(sql`select pg_advisory_xact_lock(hashtext(${sha256}))`);
 }
 
-async function removeUnreferenced(db: DbOrTx, files: { sha256: string; path: string }[]): Promise<void> {
-  for (const f of files) {
+async function removeUnreferenced(db: DbOrTx, store: FileStore, sha256s: string[]): Promise<void> {
+  for (const sha256 of sha256s) {
     await db.transaction(async (tx) => {
-      await lockContent(tx, f.sha256);
-      const [ref] = await tx.select({ id: captures.id }).from(captures).where(eq(captures.sha256, f.sha256)).limit(1);
-      if (!ref) await removeQuietly(f.path);
+      await lockContent(tx, sha256);
+      const [ref] = await tx.select({ id: captures.id }).from(captures).where(eq(captures.sha256, sha256)).limit(1);
+      if (!ref) await store.remove(captureKey(sha256));
     });
   }
 }
@@ -312,20 +310,10 @@ export async function getAnalysisResult(db: DbOrTx, shopId: number, captureId: n
   return row.result;
 }
 
-/** Where a capture's file is stored, for download. */
-export async function captureFile(db: DbOrTx, filesDir: string, shopId: number, id: number): Promise<{ path: string; name: string }> {
+/** Which stored file a capture is, for download: read it with readCapture. */
+export async function captureFile(db: DbOrTx, shopId: number, id: number): Promise<{ sha256: string; name: string; sizeBytes: number }> {
   const [row] = await db
-    .select({ sha256: captures.sha256, name: captures.originalName })
-    .from(captures)
-    .where(and(eq(captures.shopId, shopId), eq(captures.id, id)));
-  if (!row) throw notFound('Capture');
-  return { path: storagePath(filesDir, row.sha256), name: row.name };
-}
-
-/** The content hash a capture's bytes are stored under, for this shop's capture only. */
-export async function storedCaptureHash(db: DbOrTx, shopId: number, id: number): Promise<{ sha256: string; name: string }> {
-  const [row] = await db
-    .select({ sha256: captures.sha256, name: captures.originalName })
+    .select({ sha256: captures.sha256, name: captures.originalName, sizeBytes: captures.sizeBytes })
     .from(captures)
     .where(and(eq(captures.shopId, shopId), eq(captures.id, id)));
   if (!row) throw notFound('Capture');
@@ -348,7 +336,7 @@ export async function requeueCapture(db: Db, queue: AnalysisQueue, shopId: numbe
 }
 
 /** Deletes a capture and its analysis; the file goes too unless another capture has the same content. */
-export async function deleteCapture(db: Db, filesDir: string, shopId: number, id: number): Promise<void> {
+export async function deleteCapture(db: Db, store: FileStore, shopId: number, id: number): Promise<void> {
   const sha256 = await db.transaction(async (tx) => {
     const [row] = await tx
       .delete(captures)
@@ -357,5 +345,5 @@ export async function deleteCapture(db: Db, filesDir: string, shopId: number, id
     if (!row) throw notFound('Capture');
     return row.sha256;
   });
-  await removeUnreferenced(db, [{ sha256, path: storagePath(filesDir, sha256) }]);
+  await removeUnreferenced(db, store, [sha256]);
 }

@@ -1,5 +1,5 @@
 import { createHash, randomBytes } from 'node:crypto';
-import { mkdir, open, readFile, rename, rm } from 'node:fs/promises';
+import { mkdir, open } from 'node:fs/promises';
 import { join } from 'node:path';
 import { and, desc, eq, sql } from 'drizzle-orm';
 import { encodeWavHeader, type SampleFormat } from '../../analysis/index';
@@ -17,18 +17,23 @@ import type { Db, DbOrTx } from '../db/client';
 import { calibrationProfiles, jobs, recordings, testPoints, units, users } from '../db/schema/index';
 import { HttpError, badRequest, conflict, notFound } from '../http-error';
 import type { AnalysisQueue } from './analysis-queue';
-import { HEAD_BYTES, removeQuietly, tempDir } from './capture-storage';
+import { HEAD_BYTES, removeQuietly } from './capture-storage';
 import { checkUpload, jobUnitInputs, removeStoredIfUnreferenced, resolveCaptureInputs, storeCaptures, type StagedFile } from './captures';
 import { jobInShop } from './job-access';
+import type { FileStore } from '../storage/file-store';
 
-// Live-bench recordings: chunks arrive numbered and are kept one file each under
-// FILES_DIR/recordings/<id>/<seq>.pcm until the recording is finished into a capture.
+// Live-bench recordings: chunks arrive numbered and are kept one file each in the store under
+// recordings/<id>/<seq>.pcm until the recording is finished into a capture. Chunks of one
+// recording may arrive at different nodes: the row (and its lock) in PostgreSQL is the only
+// bookkeeping, and the chunks are in the shared store.
 // Every change to a recording holds its row lock, so chunks, finish and discard never interleave.
-// A chunk file is written and synced before the row counts it, so a counted chunk always exists;
-// a file left by a crash before the count is simply written again by the retry.
+// A chunk is stored whole before the row counts it, so a counted chunk always exists; a chunk
+// left by a crash before the count is simply written again by the retry.
 
+const recordingPrefix = (id: number) => `recordings/${id}`;
+const chunkKey = (id: number, seq: number) => `${recordingPrefix(id)}/${seq}.pcm`;
+/** Where a local store rooted at filesDir keeps a recording's chunks. */
 export const recordingDir = (filesDir: string, id: number) => join(filesDir, 'recordings', String(id));
-const chunkPath = (filesDir: string, id: number, seq: number) => join(recordingDir(filesDir, id), `${seq}.pcm`);
 
 const wavFormat = (f: RecordingFormat): SampleFormat => (f === 'pcm16' ? 16 : f === 'pcm24' ? 24 : 'float32');
 
@@ -139,18 +144,6 @@ function checkFloats(body: Uint8Array): void {
   }
 }
 
-async function writeSynced(path: string, bytes: Uint8Array): Promise<void> {
-  const temp = `${path}.${randomBytes(6).toString('hex')}.part`;
-  const handle = await open(temp, 'wx');
-  try {
-    await handle.writeFile(bytes);
-    await handle.sync();
-  } finally {
-    await handle.close();
-  }
-  await rename(temp, path);
-}
-
 function receipt(row: RecordingRow, seq: number, repeated: boolean): ChunkReceipt {
   return {
     seq,
@@ -168,7 +161,7 @@ function receipt(row: RecordingRow, seq: number, repeated: boolean): ChunkReceip
  */
 export async function putChunk(
   db: Db,
-  filesDir: string,
+  store: FileStore,
   shopId: number,
   id: number,
   seq: number,
@@ -184,7 +177,7 @@ export async function putChunk(
       throw badRequest(`A chunk must hold whole frames: a multiple of ${frameBytes} bytes for ${rec.channels} channel(s) of ${rec.format}`);
     }
     if (seq < rec.chunkCount) {
-      const stored = await readFile(chunkPath(filesDir, id, seq)).catch(() => null);
+      const stored = await store.readBytes(chunkKey(id, seq));
       if (stored && Buffer.compare(stored, body) === 0) return receipt(rec, seq, true);
       throw new HttpError(409, `Chunk ${seq} already arrived with different content`, 'chunk_mismatch', { expected: rec.chunkCount });
     }
@@ -195,8 +188,7 @@ export async function putChunk(
       throw new HttpError(413, `The recording would pass the ${Math.round(maxDataBytes / 1e6)} MB limit for one capture; finish it and start another`, 'too_large');
     }
     if (rec.format === 'float32') checkFloats(body);
-    await mkdir(recordingDir(filesDir, id), { recursive: true });
-    await writeSynced(chunkPath(filesDir, id, seq), body);
+    await store.putBytes(chunkKey(id, seq), body);
     const [row] = await tx
       .update(recordings)
       .set({ chunkCount: seq + 1, bytesReceived: rec.bytesReceived + body.byteLength, updatedAt: new Date() })
@@ -206,12 +198,12 @@ export async function putChunk(
   });
 }
 
-/** Writes header + chunks 0…n−1 into a temp file in the capture temp folder, hashing as it goes. */
-async function assembleWav(filesDir: string, rec: RecordingRow): Promise<StagedFile> {
+/** Writes header + chunks 0…n−1 into a temp file in this node's scratch folder, hashing as it goes. */
+async function assembleWav(store: FileStore, rec: RecordingRow): Promise<StagedFile> {
   const frameBytes = rec.channels * recordingBytesPerSample(rec.format);
   const frames = rec.bytesReceived / frameBytes;
   const header = encodeWavHeader({ sampleRate: rec.sampleRate, channels: rec.channels, format: wavFormat(rec.format), frames });
-  const dir = tempDir(filesDir);
+  const dir = store.scratchDir;
   await mkdir(dir, { recursive: true });
   const tempPath = join(dir, `recording-${rec.id}-${randomBytes(8).toString('hex')}.part`);
   const hash = createHash('sha256');
@@ -233,7 +225,8 @@ async function assembleWav(filesDir: string, rec: RecordingRow): Promise<StagedF
     await put(header);
     let data = 0;
     for (let seq = 0; seq < rec.chunkCount; seq++) {
-      const chunk = await readFile(chunkPath(filesDir, rec.id, seq));
+      const chunk = await store.readBytes(chunkKey(rec.id, seq));
+      if (!chunk) throw new Error(`recording ${rec.id}: chunk ${seq} is missing from storage`);
       data += chunk.byteLength;
       await put(chunk);
     }
@@ -259,7 +252,7 @@ export interface FinishOutcome {
  * row and its analysis job commit together (storeCaptures). The recording's row lock is held
  * throughout, so a second finish waits and then answers with the same capture.
  */
-export async function finishRecording(db: Db, queue: AnalysisQueue, filesDir: string, user: SessionUser, id: number): Promise<FinishOutcome> {
+export async function finishRecording(db: Db, queue: AnalysisQueue, store: FileStore, user: SessionUser, id: number): Promise<FinishOutcome> {
   const shopId = user.shop.id;
   // One transaction for the capture, its queued analysis and the recording's new state: a crash
   // or error part-way leaves the recording open and no capture, so finishing again makes one.
@@ -273,7 +266,7 @@ export async function finishRecording(db: Db, queue: AnalysisQueue, filesDir: st
         return { captureId: rec.captureId, created: false };
       }
       if (rec.chunkCount === 0) throw badRequest('Nothing has been recorded yet');
-      const staged = await assembleWav(filesDir, rec);
+      const staged = await assembleWav(store, rec);
       try {
         const meta = {
           testPointId: rec.testPointId,
@@ -287,7 +280,7 @@ export async function finishRecording(db: Db, queue: AnalysisQueue, filesDir: st
           notes: rec.notes,
         };
         const checked = await checkUpload(tx, shopId, rec.jobId, [staged], [meta]);
-        const [captureId] = await storeCaptures(tx, queue, filesDir, { shopId, jobId: rec.jobId, userId: user.id }, checked);
+        const [captureId] = await storeCaptures(tx, queue, store, { shopId, jobId: rec.jobId, userId: user.id }, checked);
         storedSha = checked[0]!.file.sha256;
         await tx.update(recordings).set({ state: 'finished', captureId: captureId!, updatedAt: new Date() }).where(eq(recordings.id, id));
         return { captureId: captureId!, created: true };
@@ -297,19 +290,19 @@ export async function finishRecording(db: Db, queue: AnalysisQueue, filesDir: st
     });
   } catch (err) {
     // Rolled back after the file was stored: no capture refers to it now (unless another does).
-    if (storedSha) await removeStoredIfUnreferenced(db, filesDir, [storedSha]);
+    if (storedSha) await removeStoredIfUnreferenced(db, store, [storedSha]);
     throw err;
   }
-  if (outcome.created) await rm(recordingDir(filesDir, id), { recursive: true, force: true });
+  if (outcome.created) await store.removeFolder(recordingPrefix(id));
   return outcome;
 }
 
 /** Drops an open recording and its chunks. A finished one is a capture now: delete that instead. */
-export async function discardRecording(db: Db, filesDir: string, shopId: number, id: number): Promise<void> {
+export async function discardRecording(db: Db, store: FileStore, shopId: number, id: number): Promise<void> {
   await db.transaction(async (tx) => {
     const rec = await lockRecording(tx, shopId, id);
     if (rec.state === 'finished') throw conflict('This recording is already saved as a capture; delete the capture instead');
     await tx.delete(recordings).where(eq(recordings.id, id));
   });
-  await rm(recordingDir(filesDir, id), { recursive: true, force: true });
+  await store.removeFolder(recordingPrefix(id));
 }

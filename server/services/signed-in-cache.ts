@@ -12,13 +12,19 @@ import type { SessionUser } from '../../shared/auth';
  *
  * A look-up that races an invalidation must not put back what was just dropped: fills carry the
  * generation seen when their database read began and are ignored if it has moved on since.
+ *
+ * With several server nodes, each change made here is also passed to `onChange` (see
+ * signed-in-sharing.ts, which tells the other nodes), and their changes arrive through `apply`.
  */
+export type SignedInChange = { kind: 'session'; sid: string } | { kind: 'user'; userId: number } | { kind: 'all' };
+
 export class SignedInCache {
   private readonly ttlMs: number;
   private readonly now: () => number;
   private readonly sessions = new Map<string, { at: number; json: string; userId: number | null }>();
   private readonly users = new Map<number, { at: number; user: SessionUser | null }>();
   private gen = 0;
+  private listener: ((change: SignedInChange) => void) | undefined;
   /** Entries kept before expired ones are swept: far more than a workshop has open sessions. */
   private static readonly SWEEP_ABOVE = 5000;
 
@@ -63,23 +69,39 @@ export class SignedInCache {
     this.users.set(id, { at: this.now(), user });
   }
 
+  /** Called with every change made through forget… and clear (not with those applied). */
+  onChange(listener: (change: SignedInChange) => void): void {
+    this.listener = listener;
+  }
+
   forgetSession(sid: string): void {
-    this.gen++;
-    this.sessions.delete(sid);
+    this.apply({ kind: 'session', sid });
+    this.listener?.({ kind: 'session', sid });
   }
 
   /** After a change to a user: their row and every session of theirs are read afresh. */
   forgetUser(userId: number): void {
-    this.gen++;
-    this.users.delete(userId);
-    for (const [sid, e] of this.sessions) if (e.userId === userId) this.sessions.delete(sid);
+    this.apply({ kind: 'user', userId });
+    this.listener?.({ kind: 'user', userId });
   }
 
   /** After a change that touches every signed-in user of a shop (its name, say). */
   clear(): void {
+    this.apply({ kind: 'all' });
+    this.listener?.({ kind: 'all' });
+  }
+
+  /** Drops what a change touches, without passing it on: for changes made by another node. */
+  apply(change: SignedInChange): void {
     this.gen++;
-    this.sessions.clear();
-    this.users.clear();
+    if (change.kind === 'session') this.sessions.delete(change.sid);
+    else if (change.kind === 'user') {
+      this.users.delete(change.userId);
+      for (const [sid, e] of this.sessions) if (e.userId === change.userId) this.sessions.delete(sid);
+    } else {
+      this.sessions.clear();
+      this.users.clear();
+    }
   }
 
   private sweep<K, V extends { at: number }>(map: Map<K, V>): void {

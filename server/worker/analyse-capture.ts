@@ -1,11 +1,11 @@
-import { createReadStream } from 'node:fs';
 import { eq } from 'drizzle-orm';
 import { AnalyzeOptionsError, analyzeWavStream, ENGINE_VERSION, WavFormatError } from '../../analysis/index';
 import { analysisResultSchema, type AnalyzeOptions } from '../../shared/analysis-result';
 import { figuresFromResult } from '../../shared/capture-figures';
 import type { Db } from '../db/client';
 import { analyses, calibrationProfiles, captures } from '../db/schema/index';
-import { storagePath } from '../services/capture-storage';
+import { readCapture } from '../services/capture-storage';
+import type { FileStore } from '../storage/file-store';
 
 // One analysis run: stream the stored WAV through the engine with the capture's settings and
 // store the result. Called by the queue worker; safe to call twice for the same capture.
@@ -28,7 +28,7 @@ function describe(err: unknown): string {
   return err instanceof Error ? err.message : String(err);
 }
 
-export async function analyseCapture(db: Db, filesDir: string, captureId: number, attempt: Attempt): Promise<AnalyseOutcome> {
+export async function analyseCapture(db: Db, store: FileStore, captureId: number, attempt: Attempt): Promise<AnalyseOutcome> {
   const [row] = await db
     .select({ capture: captures, calibration: calibrationProfiles })
     .from(captures)
@@ -47,9 +47,8 @@ export async function analyseCapture(db: Db, filesDir: string, captureId: number
   }
 
   try {
-    // Small reads: the engine works synchronously on each chunk, and in the server process the
-    // HTTP requests wait between chunks, so this bounds their delay.
-    const stream = createReadStream(storagePath(filesDir, capture.sha256), { highWaterMark: 256 * 1024 });
+    // Streamed from the store (local folder or bucket): never the whole file in memory.
+    const stream = await readCapture(store, capture.sha256);
     const raw = await analyzeWavStream(stream, options);
     const result = analysisResultSchema.parse(raw);
     const figures = figuresFromResult(result, { loadOhms: capture.loadOhms });

@@ -3,6 +3,7 @@ import type { Db } from '../db/client';
 import { captures } from '../db/schema/index';
 import { ANALYSIS_QUEUE, PGBOSS_SCHEMA, type AnalysisJobData, type AnalysisQueue } from '../services/analysis-queue';
 import { analyseCapture } from './analyse-capture';
+import type { FileStore } from '../storage/file-store';
 
 // The queue worker: takes capture-analysis jobs one at a time and, now and then, looks for
 // captures that are waiting with no job behind them (demo data, a job lost with a killed worker).
@@ -14,14 +15,14 @@ export interface AnalysisWorker {
 export interface WorkerOptions {
   queue: AnalysisQueue;
   db: Db;
-  filesDir: string;
+  store: FileStore;
   pollingIntervalSeconds?: number;
   sweepIntervalMs?: number;
   log?: (message: string) => void;
 }
 
 export async function startAnalysisWorker(options: WorkerOptions): Promise<AnalysisWorker> {
-  const { queue, db, filesDir } = options;
+  const { queue, db, store } = options;
   const log = options.log ?? ((m: string) => console.error(m));
   let workerId = '';
   workerId = await queue.boss.work<AnalysisJobData>(
@@ -29,7 +30,7 @@ export async function startAnalysisWorker(options: WorkerOptions): Promise<Analy
     { includeMetadata: true, batchSize: 1, pollingIntervalSeconds: options.pollingIntervalSeconds ?? 1 },
     async (jobs) => {
       for (const job of jobs) {
-        await analyseCapture(db, filesDir, job.data.captureId, { retryCount: job.retryCount, retryLimit: job.retryLimit });
+        await analyseCapture(db, store, job.data.captureId, { retryCount: job.retryCount, retryLimit: job.retryLimit });
       }
       // pg-boss waits out the polling interval even after a job; with a batch of uploads
       // queued behind this one, fetch the next at once instead.

@@ -14,6 +14,7 @@ import { storeCaptures, checkUpload, type StagedFile } from '../../server/servic
 import { storagePath, tempDir } from '../../server/services/capture-storage';
 import type { AnalysisQueue } from '../../server/services/analysis-queue';
 import { analyseCapture } from '../../server/worker/analyse-capture';
+import { localStore } from '../../server/storage/local-store';
 
 const { db, close } = testDb();
 afterAll(close);
@@ -44,7 +45,7 @@ describe('store and enqueue in one transaction', () => {
     const checked = await checkUpload(db, job.shopId, job.jobId, [file], [
       { testPointId: job.testPointIds[0]!, phase: 'before', stimulus: 'tone', drivenChannel: null, selectedInput: null, drivenInput: null, calibrationId: null, loadOhms: null, notes: '' },
     ]);
-    await expect(storeCaptures(db, brokenQueue, filesDir, { shopId: job.shopId, jobId: job.jobId, userId: 1 }, checked)).rejects.toThrow('queue unavailable');
+    await expect(storeCaptures(db, brokenQueue, localStore(filesDir), { shopId: job.shopId, jobId: job.jobId, userId: 1 }, checked)).rejects.toThrow('queue unavailable');
     expect(await db.select().from(captures).where(eq(captures.jobId, job.jobId))).toEqual([]);
     expect(existsSync(storagePath(filesDir, file.sha256))).toBe(false);
     expect(existsSync(file.tempPath)).toBe(false);
@@ -63,10 +64,10 @@ describe('analysis attempts', () => {
         .values({ shopId: job.shopId, jobId: job.jobId, phase: 'before', stimulus: 'tone', originalName: 'odd.wav', sha256, sizeBytes: 100, sampleRate: 48_000, channels: 1, bitsPerSample: 16, durationS: 1 })
         .returning({ id: captures.id });
       const id = row!.id;
-      await expect(analyseCapture(db, filesDir, id, { retryCount: 0, retryLimit: 3 })).rejects.toThrow();
+      await expect(analyseCapture(db, localStore(filesDir), id, { retryCount: 0, retryLimit: 3 })).rejects.toThrow();
       const [first] = await db.select().from(captures).where(eq(captures.id, id));
       expect(first).toMatchObject({ state: 'queued', error: expect.stringMatching(/^Attempt 1 failed \(.*EISDIR.*\); trying again$/) });
-      await expect(analyseCapture(db, filesDir, id, { retryCount: 3, retryLimit: 3 })).rejects.toThrow();
+      await expect(analyseCapture(db, localStore(filesDir), id, { retryCount: 3, retryLimit: 3 })).rejects.toThrow();
       const [last] = await db.select().from(captures).where(eq(captures.id, id));
       expect(last).toMatchObject({ state: 'failed', error: expect.stringMatching(/EISDIR/) });
     } finally {
@@ -84,7 +85,7 @@ describe('analysis attempts', () => {
       .insert(captures)
       .values({ shopId: job.shopId, jobId: job.jobId, phase: 'before', stimulus: 'tone', originalName: 'text.wav', sha256, sizeBytes: bytes.length, sampleRate: 48_000, channels: 1, bitsPerSample: 16, durationS: 1 })
       .returning({ id: captures.id });
-    expect(await analyseCapture(db, filesDir, row!.id, { retryCount: 0, retryLimit: 3 })).toBe('failed');
+    expect(await analyseCapture(db, localStore(filesDir), row!.id, { retryCount: 0, retryLimit: 3 })).toBe('failed');
     const [after] = await db.select().from(captures).where(eq(captures.id, row!.id));
     expect(after).toMatchObject({ state: 'failed', error: expect.stringMatching(/not a WAV file|RIFF|truncated|file/) });
   });

@@ -142,12 +142,14 @@ describe('killed in the middle of an analysis', () => {
     const env = childEnv(filesDir, { WORKER: 'on', ANALYSIS_EXPIRE_SECONDS: '2', QUEUE_MAINTENANCE_SECONDS: '1' });
     const { db, close } = testDb();
     try {
-      const first = await startChild(env);
-      const tech = await signedIn(first.url, 'tech@quietpath.test');
-      // Ten minutes of 48 kHz stereo: long enough that the analysis can be caught running.
+      // Ten minutes of 48 kHz stereo: long enough that the analysis can be caught running. Made
+      // first: building it blocks this process for seconds, long enough on a loaded machine for
+      // the server to close the sign-in's idle keep-alive connection under the upload.
       const form = new FormData();
       form.append('metadata', JSON.stringify([{ phase: 'before', stimulus: 'tone' }]));
       form.append('files', new Blob([plainWav(48_000 * 600)]), 'long-run.wav');
+      const first = await startChild(env);
+      const tech = await signedIn(first.url, 'tech@quietpath.test');
       const up = await tech.call<{ captures: { id: number }[] }>('POST', '/api/jobs/2/captures', form);
       expect(up.status).toBe(201);
       const id = up.body.captures[0]!.id;

@@ -64,6 +64,14 @@ export class ApiClient {
     return { status: res.status, body: parsed as T, headers: res.headers };
   }
 
+  /** The same browser session talking to another server node: one cookie jar, one CSRF token. */
+  at(baseUrl: string): ApiClient {
+    const other = new ApiClient(baseUrl);
+    other.cookies = this.cookies;
+    other.csrfToken = this.csrfToken;
+    return other;
+  }
+
   async refreshCsrf() {
     const res = await this.call<{ csrfToken: string }>('GET', '/api/auth/csrf');
     this.csrfToken = res.body.csrfToken;

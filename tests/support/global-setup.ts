@@ -13,6 +13,7 @@ import { runMigrations } from '../../server/db/migrate';
 import { seedDemo } from '../../server/db/seed';
 import { benchDemo } from '../../server/db/seed-bench';
 import { seedCaptures } from '../../server/db/seed-captures';
+import { localStore } from '../../server/storage/local-store';
 
 declare module 'vitest' {
   export interface ProvidedContext {
@@ -47,7 +48,7 @@ export async function setup(project: TestProject) {
   const { db, pool } = createDb(cluster.url);
   await runMigrations(db);
   const filesDir = join(dir, 'files');
-  await seedDemo(db, [benchDemo, seedCaptures(filesDir)]);
+  await seedDemo(db, [benchDemo, seedCaptures(localStore(filesDir))]);
   await pool.end();
   project.provide('databaseUrl', cluster.url);
   project.provide('scratchDir', dir);

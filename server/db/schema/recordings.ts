@@ -8,7 +8,7 @@ export const recordingFormatEnum = pgEnum('recording_format', RECORDING_FORMATS)
 export const recordingStateEnum = pgEnum('recording_state', RECORDING_STATES);
 
 /**
- * A live-bench recording streamed in chunks (files under FILES_DIR/recordings/<id>/). While open
+ * A live-bench recording streamed in chunks (stored under recordings/<id>/ in the file store). While open
  * it can take more chunks, be finished into a capture, or be discarded; finished, it points at
  * its capture.
  */
