@@ -174,6 +174,8 @@ describe('before and after by ear', () => {
     const time = listen.locator('[data-test=player-time]');
     const seconds = async () => Number(await time.getAttribute('data-seconds'));
     const handle = listen.getByRole('slider', { name: 'Position' });
+    // Until the file's header has arrived the slider has no length to move along.
+    await expect.poll(async () => Number(await time.getAttribute('data-duration')), { timeout: 10_000 }).toBeCloseTo(3, 2);
     await handle.focus();
     for (let i = 0; i < 40; i++) await page.keyboard.press('ArrowRight');
     // 40 steps of 0.01 s (a step pressed while the element is still seeking may be lost): wait for
