@@ -9,6 +9,7 @@ import { ClickDetector } from './clicks';
 import { LevelMeter } from './levels';
 import { ChannelPass } from './pass';
 import { buildResult, MEASUREMENT_WINDOW } from './report';
+import { SpectrogramAccumulator } from './spectrogram';
 import { planWelch, SpectrumAccumulator } from './spectrum';
 import { planSweepFrames, SWEEP_WINDOW } from './sweep';
 import { FrameDecoder, fullScaleOf } from './wav-decode';
@@ -17,7 +18,7 @@ import { MAX_HEADER_BYTES, parseWavHeader, WavFormatError } from './wav-header';
 // One streaming pass over a WAV file: bytes in (any chunking), result out. Memory is bounded by
 // the block size, the FFT frames in flight and the fixed-size summaries — not by the file length.
 
-export const ENGINE_VERSION = '1.0.0';
+export const ENGINE_VERSION = '1.1.0';
 
 /** Sweep energy needs every frame; when the stimulus is not given it is gathered only this far. */
 const AUTO_SWEEP_MAX_SECONDS = 30;
@@ -45,6 +46,7 @@ interface Pipeline {
   clicks: ClickDetector[];
   spectrum: SpectrumAccumulator | null;
   sweep: SpectrumAccumulator | null;
+  spectrogram: SpectrogramAccumulator | null;
 }
 
 /** Push-based analyser: feed it the file's bytes in order, then call finish(). */
@@ -113,12 +115,14 @@ export class CaptureAnalyzer {
     const spectrum = welch ? new SpectrumAccumulator(welch, info.channels, info.sampleRate, MEASUREMENT_WINDOW) : null;
     const sweepPlan = wantSweep ? planSweepFrames(info.sampleRate, info.frames) : null;
     const sweep = sweepPlan ? new SpectrumAccumulator(sweepPlan, info.channels, info.sampleRate, SWEEP_WINDOW) : null;
+    const spectrogram = info.frames > 0 ? new SpectrogramAccumulator({ sampleRate: info.sampleRate, channels: info.channels, totalFrames: info.frames }) : null;
     const decoder = new FrameDecoder(info, (block, start, length) => {
       for (let c = 0; c < block.length; c++) passes[c]!.process(block[c]!, length);
       spectrum?.collector.push(block, start, length);
       sweep?.collector.push(block, start, length);
+      spectrogram?.push(block, start, length);
     });
-    return { info, decoder, meters, clicks, spectrum, sweep };
+    return { info, decoder, meters, clicks, spectrum, sweep, spectrogram };
   }
 
   finish(): AnalysisResult {
@@ -142,6 +146,7 @@ export class CaptureAnalyzer {
       clicks: p.clicks.map((c) => c.finish()),
       spectrum: p.spectrum?.result() ?? null,
       sweepSpectrum: p.sweep?.result() ?? null,
+      spectrogram: p.spectrogram?.result() ?? null,
     });
     return result;
   }

@@ -3,6 +3,7 @@ import type {
   AnalyzeOptions,
   ChannelResult,
   Separation,
+  Spectrogram,
   WavInfo,
 } from '../shared/analysis-result';
 import type { ClickFigures } from './clicks';
@@ -42,6 +43,7 @@ export interface Measured {
   clicks: ClickFigures[];
   spectrum: AveragedSpectrum | null;
   sweepSpectrum: AveragedSpectrum | null;
+  spectrogram: Spectrogram | null;
 }
 
 const ratioDb = (ratio: number | null): number | null => (ratio === null ? null : powerRatioDb(ratio * ratio));
@@ -177,6 +179,7 @@ export function buildResult(m: Measured): AnalysisResult {
     channels,
     separation,
     sweep,
+    spectrogram: m.spectrogram,
     warnings,
   };
 }

@@ -7,6 +7,7 @@ import { formatSpecValue } from '../../shared/specs';
 import { loadEvidence, type EvidenceCapture, type EvidenceData, type EvidenceStage } from '../services/evidence';
 import { spectrumChart, waveformChart } from './charts';
 import { crosstalkSection } from './crosstalk-section';
+import { spectrogramPair } from './spectrogram-chart';
 import { pdfText } from './fonts';
 import { INK, MARGIN, contentWidth, ensureSpace, facts, footers, heading, newDoc, noteBox, paragraph, table, toBuffer, type Doc } from './layout';
 
@@ -216,6 +217,22 @@ function stageDetail(doc: Doc, s: EvidenceStage) {
   waveformChart(doc, { x: MARGIN + half + 12, y: top + 180, w: half, h: 96 }, 'Waveform after', channelOf(s.after?.result ?? null, channel)?.waveform ?? null, INK.after, s.after ? undefined : 'No capture after the repair yet');
   doc.y = top + 286;
   doc.x = MARGIN;
+  if (s.faultFirstShows) {
+    ensureSpace(doc, 200);
+    const y = doc.y;
+    const side = (cap: EvidenceCapture | null, title: string, missing: string) => ({
+      title: `${title}, channel ${channel + 1}`,
+      spectrogram: cap?.result?.spectrogram ?? null,
+      channel,
+      emptyText: cap ? 'No spectrogram stored (measured by an older engine)' : missing,
+    });
+    spectrogramPair(doc, { x: MARGIN, y, w, h: 190 }, [
+      side(s.before, 'Spectrogram before', 'No capture before the repair'),
+      side(s.after, 'Spectrogram after', 'No capture after the repair yet'),
+    ]);
+    doc.y = y + 198;
+    doc.x = MARGIN;
+  }
 }
 
 function closing(doc: Doc, d: EvidenceData) {

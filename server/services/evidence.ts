@@ -18,6 +18,7 @@ import { notFound } from '../http-error';
 import { crosstalkForJob, type JobCrosstalk } from './input-crosstalk';
 import { jobReference } from './jobs';
 import { sheetForJob } from './measurements';
+import { faultCriteria, firstFaultyStage } from '../../shared/signal-path';
 
 export interface EvidenceCapture {
   id: number;
@@ -39,6 +40,8 @@ export interface EvidenceStage {
   after: EvidenceCapture | null;
   rows: FigureComparison[];
   overall: OverallVerdict;
+  /** True for the stage where the fault first shows before the repair (signal-path rule). */
+  faultFirstShows: boolean;
 }
 
 export interface EvidenceData {
@@ -64,7 +67,7 @@ function figuresOf(row: { figures: unknown; result: AnalysisResult | null; loadO
   return row.result ? figuresFromResult(row.result, { loadOhms: row.loadOhms }) : null;
 }
 
-async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<EvidenceStage[]> {
+async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<(EvidenceStage & { id: number })[]> {
   const points = await db
     .select()
     .from(testPoints)
@@ -113,7 +116,7 @@ async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<Ev
       const before = latest.get(`${p.id}:before`) ?? null;
       const after = latest.get(`${p.id}:after`) ?? null;
       const rows = compareFigures(before?.figures ?? null, after?.figures ?? null);
-      return { position: p.position, name: p.name, description: p.description, before, after, rows, overall: overallVerdict(rows) };
+      return { id: p.id, position: p.position, name: p.name, description: p.description, before, after, rows, overall: overallVerdict(rows), faultFirstShows: false };
     })
     .filter((s) => s.before || s.after);
 }
@@ -174,6 +177,16 @@ function withCrosstalk(rows: (SpecCheckRow & { stage: string })[], crosstalk: Jo
   });
 }
 
+/** Marks the stage where the fault first shows before the repair, by the same rule as the signal path. */
+function markFaultyStage(stages: (EvidenceStage & { id: number })[], sheet: Awaited<ReturnType<typeof sheetForJob>>): EvidenceStage[] {
+  const separation = sheet?.figures.find((f) => f.metric === 'separation_1k_db')?.value ?? null;
+  const first = firstFaultyStage(
+    stages.map((s) => ({ testPointId: s.id, position: s.position, name: s.name, figures: s.before?.figures ?? null })),
+    faultCriteria(separation),
+  );
+  return stages.map(({ id, ...s }) => ({ ...s, faultFirstShows: first?.testPointId === id }));
+}
+
 export async function loadEvidence(db: DbOrTx, shopId: number, jobId: number): Promise<EvidenceData> {
   const [row] = await db
     .select({ job: jobs, unit: units, customerName: customers.name, shop: shops, technician: users.name })
@@ -207,8 +220,8 @@ export async function loadEvidence(db: DbOrTx, shopId: number, jobId: number): P
     .where(and(eq(jobEvents.shopId, shopId), eq(jobEvents.jobId, jobId), eq(jobEvents.kind, 'status'), eq(jobEvents.toStatus, 'ready')))
     .orderBy(desc(jobEvents.at))
     .limit(1);
-  const stages = await loadStages(db, shopId, jobId);
   const sheet = await sheetForJob(db, shopId, jobId);
+  const stages = markFaultyStage(await loadStages(db, shopId, jobId), sheet);
   const published = sheet?.figures.map((f) => ({ metric: f.metric, value: f.value, condition: f.condition, source: f.source })) ?? [];
   const crosstalk = await crosstalkForJob(db, shopId, jobId);
   const { job, unit, shop } = row;

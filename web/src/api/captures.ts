@@ -12,6 +12,8 @@ export const capturesApi = {
   get: (id: number) => http.get<CaptureSummary>(`/api/captures/${id}`),
   result: (id: number) => http.get<AnalysisResult>(`/api/captures/${id}/result`),
   fileUrl: (id: number) => `/api/captures/${id}/file`,
+  /** Played in byte ranges by the browser's audio element. */
+  audioUrl: (id: number) => `/api/captures/${id}/audio`,
   analyseAgain: (id: number) => http.post<CaptureSummary>(`/api/captures/${id}/analyse`),
   remove: (id: number) => http.del<void>(`/api/captures/${id}`),
   inputCrosstalk: (jobId: number) => http.get<JobCrosstalk>(`/api/jobs/${jobId}/input-crosstalk`),
