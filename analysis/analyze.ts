@@ -10,6 +10,7 @@ import { ClickDetector } from './clicks';
 import { LevelMeter } from './levels';
 import { ChannelPass } from './pass';
 import { MEASUREMENT_WINDOW } from './report';
+import { SpectrogramAccumulator } from './spectrogram';
 import { planWelch, SpectrumAccumulator } from './spectrum';
 import { planSweepFrames, SWEEP_WINDOW } from './sweep';
 import { FrameDecoder, fullScaleOf } from './wav-decode';
@@ -18,7 +19,7 @@ import { MAX_HEADER_BYTES, parseWavHeader, WavFormatError } from './wav-header';
 // One streaming pass over a WAV file: bytes in (any chunking), result out. Memory is bounded by
 // the block size, the FFT frames in flight and the fixed-size summaries — not by the file length.
 
-/** 1.1: clicks are what neither side of the signal predicts, with bursts as one event (clicks.ts). */
+/** 1.1: clicks are what neither side of the signal predicts, with bursts as one event (clicks.ts); a spectrogram per channel. */
 export const ENGINE_VERSION = '1.1.0';
 
 /** Sweep energy needs every frame; when the stimulus is not given it is gathered only this far. */
@@ -48,6 +49,8 @@ interface Pipeline {
   clicks: ClickDetector[];
   spectrum: SpectrumAccumulator | null;
   sweep: SpectrumAccumulator | null;
+  /** One per measured channel (none for an empty capture). */
+  spectrograms: SpectrogramAccumulator[];
 }
 
 /**
@@ -125,17 +128,21 @@ export class CaptureAnalyzer {
     const spectrum = welch ? new SpectrumAccumulator(welch, keep.length, info.sampleRate, MEASUREMENT_WINDOW) : null;
     const sweepPlan = wantSweep ? planSweepFrames(info.sampleRate, info.frames) : null;
     const sweep = sweepPlan ? new SpectrumAccumulator(sweepPlan, keep.length, info.sampleRate, SWEEP_WINDOW) : null;
+    // One picture per channel, each from its own samples only, so a thread's share is the same
+    // as in a single-thread pass (channel-split.ts).
+    const spectrograms = info.frames > 0 ? keep.map(() => new SpectrogramAccumulator({ sampleRate: info.sampleRate, channels: 1, totalFrames: info.frames })) : [];
     const decoder = new FrameDecoder(
       info,
       (block, start, length) => {
         for (let c = 0; c < block.length; c++) passes[c]!.process(block[c]!, length);
         spectrum?.collector.push(block, start, length);
         sweep?.collector.push(block, start, length);
+        for (let c = 0; c < spectrograms.length; c++) spectrograms[c]!.push([block[c]!], start, length);
       },
       undefined,
       keep,
     );
-    return { info, keep, decoder, meters, clicks, spectrum, sweep };
+    return { info, keep, decoder, meters, clicks, spectrum, sweep, spectrograms };
   }
 
   /** The figures of the channels this analyser measures (all, unless given a share). */
@@ -158,6 +165,7 @@ export class CaptureAnalyzer {
       clicks: p.clicks.map((c) => c.finish()),
       spectrum: p.spectrum?.result() ?? null,
       sweepSpectrum: p.sweep?.result() ?? null,
+      spectrograms: p.spectrograms.map((g) => g.result()),
     };
   }
 

@@ -1,4 +1,4 @@
-import type { AnalysisResult, AnalyzeOptions, WavInfo } from '../shared/analysis-result';
+import type { AnalysisResult, AnalyzeOptions, Spectrogram, WavInfo } from '../shared/analysis-result';
 import type { ClickFigures } from './clicks';
 import type { LevelFigures } from './levels';
 import { buildResult } from './report';
@@ -19,6 +19,8 @@ export interface ChannelShare {
   clicks: ClickFigures[];
   spectrum: AveragedSpectrum | null;
   sweepSpectrum: AveragedSpectrum | null;
+  /** Each channel's own picture (one channel each), in the order of `channels`; empty for an empty capture. */
+  spectrograms: (Spectrogram | null)[];
 }
 
 /**
@@ -68,12 +70,14 @@ export function resultFromShares(options: {
   const seen = new Array<boolean>(n).fill(false);
   const levels = new Array<LevelFigures>(n);
   const clicks = new Array<ClickFigures>(n);
+  const pictures = new Array<Spectrogram | null>(n).fill(null);
   for (const share of shares) {
     share.channels.forEach((c, k) => {
       if (!(c >= 0 && c < n) || seen[c]) throw new Error(`channel ${c} is missing from or repeated in the shares`);
       seen[c] = true;
       levels[c] = share.levels[k]!;
       clicks[c] = share.clicks[k]!;
+      pictures[c] = share.spectrograms[k] ?? null;
     });
   }
   const missing = seen.indexOf(false);
@@ -97,5 +101,22 @@ export function resultFromShares(options: {
       n,
       'sweep',
     ),
+    spectrogram: joinSpectrograms(pictures),
   });
+}
+
+/** One picture of every channel from each channel's own one-channel picture (all alike in shape). */
+function joinSpectrograms(perChannel: (Spectrogram | null)[]): Spectrogram | null {
+  const first = perChannel[0] ?? null;
+  if (!first) {
+    if (perChannel.some((p) => p !== null)) throw new Error('channel shares disagree: spectrogram missing in some');
+    return null;
+  }
+  const channels = perChannel.map((p, index) => {
+    if (!p || p.columns !== first.columns || p.rows !== first.rows || p.frameSize !== first.frameSize || p.channels.length !== 1) {
+      throw new Error('channel shares disagree on the spectrogram grid');
+    }
+    return { index, levels: p.channels[0]!.levels };
+  });
+  return { ...first, channels };
 }

@@ -3,12 +3,13 @@ import type {
   AnalyzeOptions,
   ChannelResult,
   Separation,
+  Spectrogram,
   WavInfo,
 } from '../shared/analysis-result';
 import type { ClickFigures } from './clicks';
 import { detectMains, HUM_HARMONICS, measureHum, type HumFigures } from './hum';
 import type { LevelFigures } from './levels';
-import { noiseMeanSquare } from './noise';
+import { localNoisePerBin, noiseMeanSquare } from './noise';
 import { measureSeparation } from './separation';
 import { summarizeSpectrum, type AveragedSpectrum } from './spectrum';
 import { detectStimulus, isTone, toneCandidates, type ToneCandidate } from './stimulus';
@@ -42,6 +43,7 @@ export interface Measured {
   clicks: ClickFigures[];
   spectrum: AveragedSpectrum | null;
   sweepSpectrum: AveragedSpectrum | null;
+  spectrogram: Spectrogram | null;
 }
 
 const ratioDb = (ratio: number | null): number | null => (ratio === null ? null : powerRatioDb(ratio * ratio));
@@ -177,6 +179,7 @@ export function buildResult(m: Measured): AnalysisResult {
     channels,
     separation,
     sweep,
+    spectrogram: m.spectrogram,
     warnings,
   };
 }
@@ -208,6 +211,11 @@ function buildChannel(
     : null;
 
   const fundamentalDbfs = tone ? meanSquareToDbfs(tone.fundamentalPower) : null;
+  // The same lobe width as the fundamental's, so tone and noise compare power for power.
+  const toneNoiseDbfs =
+    tone && p && spectrum
+      ? meanSquareToDbfs(localNoisePerBin(p, Math.round(tone.fundamentalHz / spectrum.binHz), LOBE_HALF_WIDTH, tone.excluded.slice(1)) * (2 * LOBE_HALF_WIDTH + 1))
+      : null;
   const thdnDb = tone ? ratioDb(tone.thdnRatio) : null;
   const dbv = (dbfs: number | null): number | null => dbfsToDbv(dbfs, cal);
 
@@ -236,6 +244,7 @@ function buildChannel(
     clippedSamples: lv.clippedSamples,
     fundamentalHz: tone ? tone.fundamentalHz : null,
     fundamentalDbfs,
+    toneNoiseDbfs,
     thdPct: tone ? pct(tone.thdRatio) : null,
     thdDb: tone ? ratioDb(tone.thdRatio) : null,
     thdnPct: tone ? pct(tone.thdnRatio) : null,

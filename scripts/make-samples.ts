@@ -163,7 +163,44 @@ function samples(): Sample[] {
       mixInto(tone(-80, s), noise(-110, s, 42)),
     ],
   });
+  demoCrosstalk(list);
   return list;
+}
+
+/**
+ * Demo job, input crosstalk at the selector output: the tuner input fed 997 Hz at −10 dBFS (as
+ * it reads at the probe with the tuner selected) in both channels, the selector on tuner, disc
+ * and aux in turn, before and after the repair. Leak levels are dB below the tuner's own level.
+ */
+function demoCrosstalk(list: Sample[]): void {
+  const s = 1.5;
+  const steps: { phase: 'before' | 'after'; selected: string; leak: [number, number] | null; seed: number }[] = [
+    { phase: 'before', selected: 'tuner', leak: null, seed: 51 },
+    { phase: 'before', selected: 'disc', leak: [29, 31], seed: 53 },
+    { phase: 'before', selected: 'aux', leak: [68, 70], seed: 55 },
+    { phase: 'after', selected: 'tuner', leak: null, seed: 61 },
+    { phase: 'after', selected: 'disc', leak: [71, 74], seed: 63 },
+    { phase: 'after', selected: 'aux', leak: [80, 82], seed: 65 },
+  ];
+  for (const step of steps) {
+    const level = (c: 0 | 1) => -10 - (step.leak ? step.leak[c] : 0);
+    const channels = ([0, 1] as const).map((c) => {
+      const ch = mixInto(tone(level(c), s), noise(step.phase === 'before' ? -105 : -110, s, step.seed + c));
+      return step.phase === 'before' ? mixInto(ch, hum(s, [-80, -85, -90])) : ch;
+    });
+    list.push({
+      file: `demo-crosstalk-${step.phase}-${step.selected}-selected.wav`,
+      about:
+        `Demo job, ${step.phase} repair, test point "selector output", tuner input driven, ${step.selected} selected: stereo, ${s} s. ` +
+        (step.leak
+          ? `997 Hz at ${level(0)} / ${level(1)} dBFS (left / right), i.e. ${step.leak[0]} / ${step.leak[1]} dB below the tuner's own level`
+          : '997 Hz at −10 dBFS in both channels (the reference)') +
+        `; noise ${step.phase === 'before' ? '−105 dBFS and hum 50/100/150 Hz at −80/−85/−90 dBFS' : '−110 dBFS'}.`,
+      expect: step.leak ? `Input crosstalk tuner → ${step.selected}: ${step.leak[0]} dB left, ${step.leak[1]} dB right.` : 'Tone level −10.00 dBFS in both channels.',
+      channels,
+      options: { stimulus: 'tone', toneHz: 1000 },
+    });
+  }
 }
 
 function readme(list: Sample[]): string {

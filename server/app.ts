@@ -23,6 +23,7 @@ import { testPointRoutes } from './routes/test-points';
 import { repairLogRoutes } from './routes/repair-log';
 import { specSheetRoutes } from './routes/spec-sheets';
 import { userRoutes } from './routes/users';
+import { captureAudioRoutes } from './routes/capture-audio';
 import { captureRoutes } from './routes/captures';
 import { measurementRoutes } from './routes/measurements';
 import { calibrationRoutes } from './routes/calibrations';
@@ -104,6 +105,7 @@ export function createApp({ config, db, pool, queue, billing, store, signedIn }:
   api.use(modelHistoryRoutes(db));
   api.use(searchRoutes(db));
   api.use(captureRoutes(db, config, queue, store));
+  api.use(captureAudioRoutes(db, store));
   api.use(measurementRoutes(db));
   api.use(calibrationRoutes(db));
   api.use(recordingRoutes(db, config, queue, store));

@@ -122,6 +122,9 @@ export const channelResultSchema = z.object({
   clippedSamples: z.number().int(),
   fundamentalHz: z.number().nullable(),
   fundamentalDbfs: dbOrNull,
+  /** Noise expected under the fundamental's lobe, from the bins around it: what a tone level
+   *  there can be told apart from. Optional: results made before it was added lack it. */
+  toneNoiseDbfs: dbOrNull.optional(),
   thdPct: z.number().nullable(),
   thdDb: dbOrNull,
   thdnPct: z.number().nullable(),
@@ -176,6 +179,28 @@ export const sweepResultSchema = z.object({
   channels: z.array(sweepChannelSchema),
 });
 
+/**
+ * Time × frequency picture of the capture, the same size whatever its length. Cell (column t, row f)
+ * of channel c is byte t·rows + f of that channel's `levels` (base64): the highest level seen in
+ * that time slice and frequency band, in dBFS (a sine's peak reads its own level, as in the
+ * spectrum summary) = floorDb + byte·stepDb; byte 0 means at or below floorDb.
+ */
+export const spectrogramSchema = z.object({
+  columns: z.number().int().positive(),
+  rows: z.number().int().positive(),
+  /** Column t covers [t·columnSeconds, (t+1)·columnSeconds). */
+  columnSeconds: z.number().positive(),
+  /** Row f covers [lowHz·r^f, lowHz·r^(f+1)) with r = (highHz/lowHz)^(1/rows). */
+  lowHz: z.number().positive(),
+  highHz: z.number().positive(),
+  floorDb: z.number(),
+  stepDb: z.number().positive(),
+  frameSize: z.number().int(),
+  window: z.string(),
+  channels: z.array(z.object({ index: z.number().int(), levels: z.string() })),
+});
+export type Spectrogram = z.infer<typeof spectrogramSchema>;
+
 export const analysisResultSchema = z.object({
   engineVersion: z.string(),
   file: wavInfoSchema.pick({
@@ -210,6 +235,8 @@ export const analysisResultSchema = z.object({
   channels: z.array(channelResultSchema),
   separation: z.array(separationSchema),
   sweep: sweepResultSchema.nullable(),
+  /** Null when the capture is too short; absent from results stored by engines before 1.1.0. */
+  spectrogram: spectrogramSchema.nullable().optional(),
   warnings: z.array(z.string()),
 });
 export type AnalysisResult = z.infer<typeof analysisResultSchema>;

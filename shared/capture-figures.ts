@@ -22,6 +22,21 @@ export const sweepFiguresSchema = z.object({
 });
 export type SweepFigures = z.infer<typeof sweepFiguresSchema>;
 
+/** The test tone's narrow-band level in every channel, at the frequency found in the capture. */
+export const toneLevelsSchema = z.object({
+  frequencyHz: z.number(),
+  channels: z.array(
+    z.object({
+      channel: z.number().int(),
+      /** Power in the tone's window lobe, dBFS. */
+      levelDbfs: num,
+      /** Noise expected in the same lobe from the bins around it, dBFS. */
+      noiseDbfs: num,
+    }),
+  ),
+});
+export type ToneLevels = z.infer<typeof toneLevelsSchema>;
+
 export const captureFiguresSchema = z.object({
   stimulus: stimulusSchema,
   drivenChannel: z.number().int().nullable(),
@@ -54,6 +69,9 @@ export const captureFiguresSchema = z.object({
   /** A log-sweep capture's response per channel (the driven one when known), in dB relative to
    *  referenceHz. Optional: figures stored before it was added lack it. */
   response: sweepFiguresSchema.nullable().optional(),
+  /** A tone capture's narrow-band tone level per channel, for input crosstalk. Optional: figures
+   *  stored before it was added lack it. */
+  tone: toneLevelsSchema.nullable().optional(),
 });
 export type CaptureFigures = z.infer<typeof captureFiguresSchema>;
 
@@ -87,6 +105,7 @@ export function figuresFromResult(result: AnalysisResult, options: { loadOhms: n
   }
 
   const levelDbv = levelChannel?.levelDbv ?? null;
+  const toneHz = channels.find((c) => c.fundamentalHz !== null)?.fundamentalHz ?? null;
   return {
     stimulus: result.stimulus,
     drivenChannel: result.drivenChannel,
@@ -122,5 +141,12 @@ export function figuresFromResult(result: AnalysisResult, options: { loadOhms: n
             .map(({ channel, frequencyHz, responseDb }) => ({ channel, frequencyHz, responseDb })),
         }
       : null,
+    tone:
+      toneHz === null
+        ? null
+        : {
+            frequencyHz: toneHz,
+            channels: channels.map((c) => ({ channel: c.index, levelDbfs: c.fundamentalDbfs, noiseDbfs: c.toneNoiseDbfs ?? null })),
+          },
   };
 }

@@ -174,6 +174,8 @@ export function readingFor(metric: SpecMetric, f: CaptureFigures, published: rea
       return responseEdgeReading(f, published, 'high');
     case 'response_tolerance_db':
       return responseToleranceReading(f, published);
+    case 'input_crosstalk_1k_db':
+      return { value: null, note: 'read from several captures: see the input crosstalk table' };
     default:
       return { value: null, note: 'not measured from a single capture' };
   }

@@ -18,6 +18,7 @@ const SOLACE_FIGURES: SpecFigureInput[] = [
   { metric: 'power_8ohm_w', value: 70, condition: 'per channel, both channels driven, 20 Hz–20 kHz', source: DEMO_SOURCE },
   { metric: 'snr_line_db', value: 98, condition: 'line input, A-weighted, re rated output', source: DEMO_SOURCE },
   { metric: 'separation_1k_db', value: 60, condition: 'line input, 1 kHz', source: DEMO_SOURCE },
+  { metric: 'input_crosstalk_1k_db', value: 65, condition: 'between line inputs, 1 kHz', source: DEMO_SOURCE },
   { metric: 'thd_pct', value: 0.05, condition: 'rated power into 8 Ω, 1 kHz', source: DEMO_SOURCE },
   { metric: 'response_low_hz', value: 10, condition: '±1 dB, line input, tone controls flat', source: DEMO_SOURCE },
   { metric: 'response_high_hz', value: 50_000, condition: '±1 dB, line input, tone controls flat', source: DEMO_SOURCE },
@@ -35,7 +36,7 @@ async function addTestPoints(tx: DbOrTx, shopId: number, jobIds: number[]) {
 async function addSpecSheet(tx: DbOrTx, shopId: number) {
   const [sheet] = await tx
     .insert(specSheets)
-    .values({ shopId, maker: 'Vellmark', model: 'Solace 70', notes: 'Demo sheet: every figure here is invented.' })
+    .values({ shopId, maker: 'Vellmark', model: 'Solace 70', notes: 'Demo sheet: every figure here is invented.', inputs: ['Phono', 'Disc', 'Tuner', 'Aux', 'Recorder'] })
     .returning({ id: specSheets.id });
   await tx.insert(specFigures).values(SOLACE_FIGURES.map((f) => ({ ...f, shopId, specSheetId: sheet!.id })));
 }

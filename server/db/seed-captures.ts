@@ -1,8 +1,9 @@
 /**
  * Demo captures on the demo amplifier job: the synthetic WAVs from samples-synthetic/ stored as a
  * technician would upload them — clean at the input socket, crackle and poor separation at the
- * selector output before the repair, clean there after it, and the residual noise at the speaker
- * terminals after it (for the SNR check). They are left 'queued': the analysis
+ * selector output before the repair, clean there after it, the input crosstalk test there (tuner
+ * driven, selector stepped through the other inputs) before and after, and the residual noise at
+ * the speaker terminals after it (for the SNR check). They are left 'queued': the analysis
  * worker finds queued captures without a job when it starts, so a new user sees results at once.
  */
 import { createHash, randomBytes } from 'node:crypto';
@@ -33,6 +34,9 @@ interface DemoCapture {
   /** Which demo calibration profile: the ×1 line-level probe or the ×10 probe for the speaker terminals. */
   calibration: 'line' | 'speaker';
   loadOhms: number | null;
+  /** Input tags, in the demo unit's spelling; null for a capture without them. */
+  selectedInput?: string;
+  drivenInput?: string;
 }
 
 const TONE = { stimulus: 'tone', drivenChannel: 0, calibration: 'line', loadOhms: null } as const;
@@ -41,6 +45,26 @@ export const DEMO_CAPTURES: readonly DemoCapture[] = [
   { file: 'demo-before-input-socket.wav', position: 1, phase: 'before', hoursAgo: 46, notes: 'Disc input, 1 kHz tone in the left channel, volume at minimum.', ...TONE },
   { file: 'demo-before-selector-out.wav', position: 2, phase: 'before', hoursAgo: 45, notes: 'Same tone, probe on the selector IC output pins. Crackle audible on the tracer.', ...TONE },
   { file: 'demo-after-selector-out.wav', position: 2, phase: 'after', hoursAgo: 2, notes: 'After replacing IC301, same set-up as before.', ...TONE },
+  // Input crosstalk at the selector output: tuner driven, the selector stepped through tuner, disc and aux.
+  ...(['before', 'after'] as const).flatMap((phase) =>
+    (['Tuner', 'Disc', 'Aux'] as const).map((selected, i) => ({
+      file: `demo-crosstalk-${phase}-${selected.toLowerCase()}-selected.wav`,
+      position: 2,
+      phase,
+      // Taken just before the ordinary capture at the same point, which stays the stage's latest.
+      hoursAgo: (phase === 'before' ? 45.5 : 2.5) - i * 0.05,
+      notes:
+        selected === 'Tuner'
+          ? 'Crosstalk test: 1 kHz into the tuner input, both channels, selector on tuner for the reference level.'
+          : `Crosstalk test: same tone into the tuner input, selector on ${selected.toLowerCase()}; listening for the tuner bleeding through.`,
+      stimulus: 'tone' as const,
+      drivenChannel: null,
+      calibration: 'line' as const,
+      loadOhms: null,
+      selectedInput: selected,
+      drivenInput: 'Tuner',
+    })),
+  ),
   {
     file: 'silence-noise-floor.wav',
     position: 5,
@@ -124,6 +148,8 @@ export function seedCaptures(store: FileStore): DemoExtension {
         phase: demo.phase,
         stimulus: demo.stimulus,
         drivenChannel: demo.drivenChannel,
+        selectedInput: demo.selectedInput ?? null,
+        drivenInput: demo.drivenInput ?? null,
         calibrationId: calibrationIds[demo.calibration],
         loadOhms: demo.loadOhms,
         originalName: demo.file,

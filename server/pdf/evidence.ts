@@ -6,6 +6,8 @@ import type { AnalysisResult } from '../../shared/analysis-result';
 import { formatSpecValue } from '../../shared/specs';
 import { loadEvidence, type EvidenceCapture, type EvidenceData, type EvidenceStage } from '../services/evidence';
 import { spectrumChart, waveformChart } from './charts';
+import { crosstalkSection } from './crosstalk-section';
+import { spectrogramPair } from './spectrogram-chart';
 import { pdfText } from './fonts';
 import { INK, MARGIN, contentWidth, ensureSpace, facts, footers, heading, newDoc, noteBox, paragraph, table, toBuffer, type Doc } from './layout';
 
@@ -215,13 +217,29 @@ function stageDetail(doc: Doc, s: EvidenceStage) {
   waveformChart(doc, { x: MARGIN + half + 12, y: top + 180, w: half, h: 96 }, 'Waveform after', channelOf(s.after?.result ?? null, channel)?.waveform ?? null, INK.after, s.after ? undefined : 'No capture after the repair yet');
   doc.y = top + 286;
   doc.x = MARGIN;
+  if (s.faultFirstShows) {
+    ensureSpace(doc, 200);
+    const y = doc.y;
+    const side = (cap: EvidenceCapture | null, title: string, missing: string) => ({
+      title: `${title}, channel ${channel + 1}`,
+      spectrogram: cap?.result?.spectrogram ?? null,
+      channel,
+      emptyText: cap ? 'No spectrogram stored (measured by an older engine)' : missing,
+    });
+    spectrogramPair(doc, { x: MARGIN, y, w, h: 190 }, [
+      side(s.before, 'Spectrogram before', 'No capture before the repair'),
+      side(s.after, 'Spectrogram after', 'No capture after the repair yet'),
+    ]);
+    doc.y = y + 198;
+    doc.x = MARGIN;
+  }
 }
 
 function closing(doc: Doc, d: EvidenceData) {
   heading(doc, 'How the figures were measured');
   paragraph(
     doc,
-    'Levels are in dBFS as defined in AES17: a full-scale sine reads 0 dBFS. THD is the RMS sum of harmonics 2 to 10 over the fundamental. THD+N is everything except the fundamental and DC in the 20 Hz to 20 kHz band, relative to the total. A-weighted noise uses the IEC 61672-1 curve. Channel separation is the test tone in the driven channel minus the same tone leaking into the other channel. Clicks are impulsive events that stand clear of the capture\'s own noise. Verdicts follow the rule shown beside each figure; a small change inside the stated band counts as the same, because repeat captures of an unchanged unit differ by about that much.',
+    'Levels are in dBFS as defined in AES17: a full-scale sine reads 0 dBFS. THD is the RMS sum of harmonics 2 to 10 over the fundamental. THD+N is everything except the fundamental and DC in the 20 Hz to 20 kHz band, relative to the total. A-weighted noise uses the IEC 61672-1 curve. Channel separation is the test tone in the driven channel minus the same tone leaking into the other channel. Input crosstalk is the level of a tone fed into one input minus the same tone heard with another input selected, both read in a narrow band at the tone (IEC 60268-3 form); where the leak is lost in the noise the report says "better than" the level the noise allows. Clicks are impulsive events that stand clear of the capture\'s own noise. Verdicts follow the rule shown beside each figure; a small change inside the stated band counts as the same, because repeat captures of an unchanged unit differ by about that much.',
     { size: 9 },
   );
   ensureSpace(doc, 110);
@@ -261,6 +279,7 @@ export function drawEvidence(d: EvidenceData): Promise<Buffer> {
   titleBlock(doc, d);
   summary(doc, d);
   verdicts(doc, d);
+  crosstalkSection(doc, d.crosstalk);
   repairLog(doc, d);
   specSection(doc, d);
   for (const s of d.stages) stageDetail(doc, s);

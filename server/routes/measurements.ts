@@ -5,6 +5,8 @@ import { currentUser, requireRole } from '../middleware/auth';
 import { idParam, parse } from '../middleware/validate';
 import { jobForViewer } from '../services/job-access';
 import { compareForJob, signalPathForJob } from '../services/measurements';
+import { crosstalkForJob, setCrosstalkReferences } from '../services/input-crosstalk';
+import { crosstalkReferencesSchema } from '../../shared/input-crosstalk-compare';
 import { listCaptures } from '../services/captures';
 import { figuresCsv, signalPathCsv } from '../services/csv-export';
 import { jobReference } from '../services/jobs';
@@ -37,6 +39,15 @@ export function measurementRoutes(db: Db): Router {
   r.get('/jobs/:id/compare', staff, async (req, res) => {
     const job = await jobForViewer(db, currentUser(req), idParam(req.params.id, 'Job'));
     res.json(await compareForJob(db, job.shopId, job.id, parse(compareQuerySchema, req.query)));
+  });
+  r.get('/jobs/:id/input-crosstalk', staff, async (req, res) => {
+    const job = await jobForViewer(db, currentUser(req), idParam(req.params.id, 'Job'));
+    res.json(await crosstalkForJob(db, job.shopId, job.id));
+  });
+  r.put('/jobs/:id/input-crosstalk/references', requireRole('owner', 'technician'), async (req, res) => {
+    const job = await jobForViewer(db, currentUser(req), idParam(req.params.id, 'Job'));
+    await setCrosstalkReferences(db, job.shopId, job.id, parse(crosstalkReferencesSchema, req.body));
+    res.json(await crosstalkForJob(db, job.shopId, job.id));
   });
   return r;
 }

@@ -12,10 +12,13 @@ import { captureFiguresSchema, figuresFromResult, type CaptureFigures } from '..
 import { compareFigures, overallVerdict, type FigureComparison, type OverallVerdict } from '../../shared/compare';
 import { checkFiguresAgainstSpec, type SpecCheckRow } from '../../shared/spec-check';
 import { biasWithin, railCheck } from '../../shared/repair-log';
-import { SPEC_METRIC_INFO, formatSpecValue } from '../../shared/specs';
+import { SPEC_METRIC_INFO, checkAgainstSpec, formatSpecValue } from '../../shared/specs';
+import { isCrosstalkCapture } from '../../shared/input-crosstalk';
 import { notFound } from '../http-error';
+import { crosstalkForJob, type JobCrosstalk } from './input-crosstalk';
 import { jobReference } from './jobs';
 import { sheetForJob } from './measurements';
+import { faultCriteria, firstFaultyStage } from '../../shared/signal-path';
 
 export interface EvidenceCapture {
   id: number;
@@ -37,6 +40,8 @@ export interface EvidenceStage {
   after: EvidenceCapture | null;
   rows: FigureComparison[];
   overall: OverallVerdict;
+  /** True for the stage where the fault first shows before the repair (signal-path rule). */
+  faultFirstShows: boolean;
 }
 
 export interface EvidenceData {
@@ -51,6 +56,8 @@ export interface EvidenceData {
   bias: { channel: string; testPoint: string; targetMv: number; toleranceMv: number; finalMv: number | null; within: boolean | null }[];
   stages: EvidenceStage[];
   spec: { sheet: string | null; rows: (SpecCheckRow & { stage: string })[] };
+  /** Input crosstalk before and after, when any input-tagged crosstalk capture was measured. */
+  crosstalk: JobCrosstalk | null;
   generatedAt: Date;
 }
 
@@ -60,7 +67,7 @@ function figuresOf(row: { figures: unknown; result: AnalysisResult | null; loadO
   return row.result ? figuresFromResult(row.result, { loadOhms: row.loadOhms }) : null;
 }
 
-async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<EvidenceStage[]> {
+async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<(EvidenceStage & { id: number })[]> {
   const points = await db
     .select()
     .from(testPoints)
@@ -72,6 +79,8 @@ async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<Ev
       testPointId: captures.testPointId,
       phase: captures.phase,
       stimulus: captures.stimulus,
+      selectedInput: captures.selectedInput,
+      drivenInput: captures.drivenInput,
       loadOhms: captures.loadOhms,
       originalName: captures.originalName,
       notes: captures.notes,
@@ -88,7 +97,7 @@ async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<Ev
   const latest = new Map<string, EvidenceCapture>();
   for (const m of measured) {
     const key = `${m.testPointId}:${m.phase}`;
-    if (latest.has(key)) continue;
+    if (latest.has(key) || isCrosstalkCapture(m)) continue;
     const parsed = analysisResultSchema.safeParse(m.result);
     const result = parsed.success ? parsed.data : null;
     latest.set(key, {
@@ -107,7 +116,7 @@ async function loadStages(db: DbOrTx, shopId: number, jobId: number): Promise<Ev
       const before = latest.get(`${p.id}:before`) ?? null;
       const after = latest.get(`${p.id}:after`) ?? null;
       const rows = compareFigures(before?.figures ?? null, after?.figures ?? null);
-      return { position: p.position, name: p.name, description: p.description, before, after, rows, overall: overallVerdict(rows) };
+      return { id: p.id, position: p.position, name: p.name, description: p.description, before, after, rows, overall: overallVerdict(rows), faultFirstShows: false };
     })
     .filter((s) => s.before || s.after);
 }
@@ -142,6 +151,41 @@ function specRows(stages: EvidenceStage[], published: Parameters<typeof checkFig
   return out;
 }
 
+/**
+ * The published input crosstalk figure is answered by the whole after-repair matrix (its worst
+ * pair), not by one capture. A bound counts only when no pair was read outright.
+ */
+function withCrosstalk(rows: (SpecCheckRow & { stage: string })[], crosstalk: JobCrosstalk): (SpecCheckRow & { stage: string })[] {
+  const cells = crosstalk.rows.map((r) => r.after).filter((c): c is NonNullable<typeof c> => c !== null && c.db !== null);
+  const read = cells.filter((c) => !c.noiseLimited);
+  const pool = read.length ? read : cells;
+  const worst = pool.sort((a, b) => (a.db as number) - (b.db as number))[0];
+  return rows.map((row) => {
+    if (row.metric !== 'input_crosstalk_1k_db') return row;
+    if (!worst) return { ...row, note: 'needs the input crosstalk test after the repair' };
+    const check = checkAgainstSpec(row.metric, worst.db as number, { metric: row.metric, value: row.published });
+    return {
+      ...row,
+      measured: worst.db,
+      // A bound short of the figure says nothing either way.
+      within: worst.noiseLimited && !check.within ? null : check.within,
+      margin: check.margin,
+      marginUnit: check.marginUnit,
+      note: `${worst.driven} heard with ${worst.selected} selected, the worst pair${worst.noiseLimited ? '; lost in the noise, so at least this' : ''}`,
+      stage: '',
+    };
+  });
+}
+
+/** Marks the stage where the fault first shows before the repair, by the same rule as the signal path. */
+function markFaultyStage(stages: (EvidenceStage & { id: number })[], sheet: Awaited<ReturnType<typeof sheetForJob>>): EvidenceStage[] {
+  const separation = sheet?.figures.find((f) => f.metric === 'separation_1k_db')?.value ?? null;
+  const first = firstFaultyStage(
+    stages.map((s) => ({ testPointId: s.id, position: s.position, name: s.name, figures: s.before?.figures ?? null })),
+    faultCriteria(separation),
+  );
+  return stages.map(({ id, ...s }) => ({ ...s, faultFirstShows: first?.testPointId === id }));
+}
 
 export async function loadEvidence(db: DbOrTx, shopId: number, jobId: number): Promise<EvidenceData> {
   const [row] = await db
@@ -176,9 +220,10 @@ export async function loadEvidence(db: DbOrTx, shopId: number, jobId: number): P
     .where(and(eq(jobEvents.shopId, shopId), eq(jobEvents.jobId, jobId), eq(jobEvents.kind, 'status'), eq(jobEvents.toStatus, 'ready')))
     .orderBy(desc(jobEvents.at))
     .limit(1);
-  const stages = await loadStages(db, shopId, jobId);
   const sheet = await sheetForJob(db, shopId, jobId);
+  const stages = markFaultyStage(await loadStages(db, shopId, jobId), sheet);
   const published = sheet?.figures.map((f) => ({ metric: f.metric, value: f.value, condition: f.condition, source: f.source })) ?? [];
+  const crosstalk = await crosstalkForJob(db, shopId, jobId);
   const { job, unit, shop } = row;
   const signedOff = ready && ['ready', 'collected'].includes(job.status);
   return {
@@ -192,7 +237,8 @@ export async function loadEvidence(db: DbOrTx, shopId: number, jobId: number): P
     rails: rails.map((r) => ({ ...r, ...railCheck(r.nominalV, r.measuredV, r.tolerancePct) })),
     bias: bias.map((b) => ({ channel: b.channel, testPoint: b.testPoint, targetMv: b.targetMv, toleranceMv: b.toleranceMv, finalMv: b.finalMv, within: biasWithin(b.targetMv, b.toleranceMv, b.finalMv) })),
     stages,
-    spec: { sheet: sheet ? `${sheet.maker} ${sheet.model}` : null, rows: specRows(stages, published) },
+    spec: { sheet: sheet ? `${sheet.maker} ${sheet.model}` : null, rows: withCrosstalk(specRows(stages, published), crosstalk) },
+    crosstalk: crosstalk.rows.length ? crosstalk : null,
     generatedAt: new Date(),
   };
 }

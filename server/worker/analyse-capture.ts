@@ -2,6 +2,7 @@ import { eq } from 'drizzle-orm';
 import { AnalyzeOptionsError, analyzeWavStream, ENGINE_VERSION, WavFormatError } from '../../analysis/index';
 import { analysisResultSchema, type AnalyzeOptions } from '../../shared/analysis-result';
 import { figuresFromResult } from '../../shared/capture-figures';
+import { CROSSTALK_TONE_HZ } from '../../shared/input-crosstalk';
 import type { Db } from '../db/client';
 import { analyses, calibrationProfiles, captures } from '../db/schema/index';
 import { captureKey, readCapture } from '../services/capture-storage';
@@ -42,6 +43,8 @@ export async function analyseCapture(db: Db, store: FileStore, captureId: number
   await db.update(captures).set({ state: 'running', error: null }).where(eq(captures.id, captureId));
   const options: AnalyzeOptions = { stimulus: capture.stimulus };
   if (capture.drivenChannel !== null) options.drivenChannel = capture.drivenChannel;
+  // A capture for the input-crosstalk matrix: its leaked tone may sit under hum, so look for it where it was sent.
+  if (capture.stimulus === 'tone' && capture.drivenInput !== null && capture.selectedInput !== null) options.toneHz = CROSSTALK_TONE_HZ;
   if (calibration) {
     options.voltsAtFullScale = calibration.voltsAtFullScale;
     options.probeAttenuation = calibration.probeAttenuation;

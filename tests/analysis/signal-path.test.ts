@@ -54,3 +54,25 @@ describe('firstFaultyStage', () => {
     expect(firstFaultyStage([], trade)).toBeNull();
   });
 });
+
+describe('input crosstalk in the signal path', () => {
+  // Limits: the spec sheet's input crosstalk figure, else 40 dB (DIN 45500 part 6 crosstalk minimum at 1 kHz, historic).
+  const leak = (db: number, noiseLimited = false) => ({ driven: 'Tuner', selected: 'Disc', db, noiseLimited });
+
+  it('another input heard less far down than the limit marks the stage; a bound does not', () => {
+    expect(trade.crosstalkThresholdDb).toBe(40);
+    expect(stageFaults(figures(), trade, leak(29))).toEqual([{ kind: 'crosstalk', message: 'Tuner heard 29.0 dB below the selected Disc input, less than 40 dB' }]);
+    expect(stageFaults(figures(), trade, leak(40))).toEqual([]);
+    expect(stageFaults(figures(), trade, leak(30, true))).toEqual([]);
+    expect(stageFaults(figures(), faultCriteria(null, 65), leak(62)).map((f) => f.kind)).toEqual(['crosstalk']);
+  });
+
+  it('a stage measured only for crosstalk can be the first faulty one', () => {
+    const stages: StageInput[] = [
+      stage(1, 1, figures()),
+      { testPointId: 2, position: 2, name: 'TP2', figures: null, crosstalk: leak(29) },
+      stage(3, 3, figures({ clickCount: 4, clicksPerMinute: 80 })),
+    ];
+    expect(firstFaultyStage(stages, trade)).toMatchObject({ testPointId: 2, cleanStagesBefore: 1, faults: [{ kind: 'crosstalk' }] });
+  });
+});

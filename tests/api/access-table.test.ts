@@ -6,6 +6,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { startTestServer, testDb } from '../support/server';
 import { ApiClient, signedIn } from '../support/client';
 import { makeShop, TEST_PASSWORD } from '../support/factories';
+import { sample, upload } from '../support/captures';
 import { listRoutes, type RouteInfo } from '../../server/route-catalog';
 import { ROLES, type Role } from '../../shared/roles';
 import type { RunningServer } from '../../server/main';
@@ -24,6 +25,8 @@ let server: RunningServer;
 let routes: RouteInfo[];
 let other: Awaited<ReturnType<typeof makeShop>>;
 let otherUserId: number;
+/** A capture the other shop really stored, so a route that crossed shops would find its file. */
+let otherCaptureId: number;
 const clients = {} as Record<Role | 'anonymous', ApiClient>;
 /** The technician's API tokens, one per scope, and one that has been revoked. */
 const tokenClients = {} as Record<ApiTokenScope | 'revoked', ApiClient>;
@@ -39,6 +42,11 @@ beforeAll(async () => {
   const theirs = new ApiClient(server.url);
   await theirs.login(other.emails.owner, TEST_PASSWORD);
   otherUserId = (await theirs.get<{ id: number }[]>('/api/users')).body[0]!.id;
+  const stored = await upload(theirs, other.jobId, [
+    { name: 'theirs.wav', bytes: sample('tone-997hz-clean.wav'), meta: { phase: 'before', stimulus: 'tone' } },
+  ]);
+  if (stored.status !== 201) throw new Error(`the other shop's upload answered ${stored.status}`);
+  otherCaptureId = stored.body.captures[0]!.id;
   const makeToken = async (scope: ApiTokenScope) =>
     (await clients.technician.post<ApiTokenCreated>('/api/account/tokens', { name: `access ${scope}`, scope, expiresInDays: 1 })).body;
   for (const scope of API_TOKEN_SCOPES) tokenClients[scope] = new ApiClient(server.url, (await makeToken(scope)).token);
@@ -54,7 +62,13 @@ function idFor(segment: string, role: Role): number {
     const otherCustomer: Record<string, number> = { jobs: 2, units: 2, customers: 2 };
     return otherCustomer[segment] ?? MISSING_ID;
   }
-  const otherShop: Record<string, number> = { customers: other.customerId, units: other.unitId, jobs: other.jobId, users: otherUserId };
+  const otherShop: Record<string, number> = {
+    customers: other.customerId,
+    units: other.unitId,
+    jobs: other.jobId,
+    users: otherUserId,
+    captures: otherCaptureId,
+  };
   return otherShop[segment] ?? MISSING_ID;
 }
 

@@ -116,6 +116,11 @@ describe('demo data', () => {
       const path = await tech.get<SignalPath>(`/api/jobs/${demo!.id}/signal-path`);
       expect(path.body.firstFault.before?.name).toBe('Input selector output');
       expect(path.body.firstFault.after).toBeNull();
+      // The demo crosstalk files are built with the tuner 29 dB (left) below the selected disc
+      // input before the repair and 71 dB after (samples-synthetic/README.md).
+      const crosstalk = await tech.get<{ sentence: string | null; rows: { driven: string; selected: string }[] }>(`/api/jobs/${demo!.id}/input-crosstalk`);
+      expect(crosstalk.body.sentence).toBe('Tuner is now heard 71 dB below the selected disc input; before the repair it was 29 dB below.');
+      expect(crosstalk.body.rows.map((r) => `${r.driven}→${r.selected}`)).toEqual(['Tuner→Disc', 'Tuner→Aux']);
     } finally {
       await server.close();
     }

@@ -177,7 +177,11 @@ describe('calibration profiles', () => {
 describe('re-measure and delete', () => {
   it('measures a capture again, then deletes it and its file', async () => {
     const job = await makeBenchJob(db);
+    // Stored files are shared by identical content, and other tests upload this sample too: one
+    // LSB of the last 24-bit sample (−138 dBFS, inside the 2 ms edge guard) makes this copy its own.
     const bytes = sample('tone-997hz-harmonics.wav');
+    const lsb = bytes.length - 3;
+    bytes[lsb] = bytes[lsb]! ^ 1;
     const res = await upload(tech, job.jobId, [{ name: 'h.wav', bytes, meta: { testPointId: job.testPointIds[0]!, phase: 'before', stimulus: 'tone' } }]);
     const id = res.body.captures[0]!.id;
     const [first] = await waitForAnalysis(tech, job.jobId, [id]);

@@ -160,11 +160,13 @@ describe("a unit's sheet", () => {
       power_8ohm_w: 70,
       snr_line_db: 98,
       separation_1k_db: 60,
+      input_crosstalk_1k_db: 65,
       thd_pct: 0.05,
       response_low_hz: 10,
       response_high_hz: 50_000,
       response_tolerance_db: 1,
     });
     expect(new Set(res.body.figures.map((f) => f.source))).toEqual(new Set(["owner's manual (invented demo figures)"]));
+    expect(res.body.inputs).toEqual(['Phono', 'Disc', 'Tuner', 'Aux', 'Recorder']);
   });
 });

@@ -1,4 +1,4 @@
-import { pgTable, pgEnum, integer, text, timestamp, index, doublePrecision } from 'drizzle-orm/pg-core';
+import { pgTable, pgEnum, integer, text, timestamp, index, doublePrecision, jsonb } from 'drizzle-orm/pg-core';
 import { JOB_STATUSES } from '../../../shared/jobs';
 import { shops, users } from './shop';
 import { customers, units } from './customers';
@@ -21,6 +21,8 @@ export const jobs = pgTable(
     faultFound: text().notNull().default(''),
     assignedTechnicianId: integer().references(() => users.id),
     labourHours: doublePrecision().notNull().default(0),
+    /** Input crosstalk reference levels typed in, per phase: input → dBFS (shared/input-crosstalk-compare.ts). */
+    crosstalkReferences: jsonb().$type<{ before: Record<string, number>; after: Record<string, number> }>().notNull().default({ before: {}, after: {} }),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     /** The fault as reported and as found weigh most; intake remarks less. */

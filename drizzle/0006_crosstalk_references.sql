@@ -1,0 +1,1 @@
+ALTER TABLE "jobs" ADD COLUMN "crosstalk_references" jsonb DEFAULT '{"before":{},"after":{}}'::jsonb NOT NULL;
