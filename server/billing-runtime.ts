@@ -52,7 +52,7 @@ export async function startBilling(config: Config, db: Db): Promise<BillingRunti
     let apiBase = config.STRIPE_API_BASE;
     if (!key) {
       key = `sk_test_local_${randomBytes(24).toString('hex')}`;
-      fakePay = await startFakePaymentApi({ secretKey: key, webhookSecret });
+      fakePay = await startFakePaymentApi({ secretKey: key, webhookSecret, db });
       apiBase = fakePay.url;
     }
     const mailer = createMailer(smtpUrl);

@@ -4,37 +4,23 @@
  * plain test "card" page. Paying on that page completes the session and delivers a signed
  * checkout.session.completed webhook, signed with the SDK's own test-header helper, before
  * sending the customer back. Listens on 127.0.0.1 only; it moves no money.
+ *
+ * Sessions live in the shared database, so with several nodes each node's stand-in knows every
+ * checkout: a session opened through one can be retrieved, shown and paid through another. The
+ * webhook goes from the stand-in that took the payment to its own node, signed with that node's
+ * webhook secret, so each node only ever checks signatures made with its own secret.
  */
 import express, { type Request, type Response } from 'express';
 import type { Server } from 'node:http';
 import { randomBytes } from 'node:crypto';
 import Stripe from 'stripe';
+import type { Db } from '../db/client';
+import { standinStore, type StandinSession as FakeSession } from './payment-standin-store';
 
 export interface FakePaymentApi {
   url: string;
   setWebhookUrl(url: string): void;
   close(): Promise<void>;
-}
-
-interface FakeSession {
-  id: string;
-  object: 'checkout.session';
-  amount_total: number;
-  currency: string;
-  mode: 'payment';
-  status: 'open' | 'complete' | 'expired';
-  payment_status: 'unpaid' | 'paid';
-  payment_intent: string | null;
-  url: string;
-  success_url: string;
-  cancel_url: string | null;
-  client_reference_id: string | null;
-  customer_email: string | null;
-  metadata: Record<string, string>;
-  created: number;
-  livemode: false;
-  /** Shown on the card page only. */
-  _title: string;
 }
 
 const id = (prefix: string) => `${prefix}_${randomBytes(12).toString('hex')}`;
@@ -49,9 +35,8 @@ function apiError(res: Response, status: number, message: string, code?: string)
 type Form = Record<string, unknown>;
 const str = (v: unknown) => (typeof v === 'string' ? v : undefined);
 
-export async function startFakePaymentApi(opts: { secretKey: string; webhookSecret: string }): Promise<FakePaymentApi> {
-  const sessions = new Map<string, FakeSession>();
-  const idempotent = new Map<string, FakeSession>();
+export async function startFakePaymentApi(opts: { secretKey: string; webhookSecret: string; db: Db }): Promise<FakePaymentApi> {
+  const sessions = standinStore(opts.db);
   const signer = new Stripe(opts.secretKey);
   let webhookUrl = '';
   let base = '';
@@ -65,9 +50,10 @@ export async function startFakePaymentApi(opts: { secretKey: string; webhookSecr
     next();
   };
 
-  app.post('/v1/checkout/sessions', auth, (req, res) => {
+  app.post('/v1/checkout/sessions', auth, async (req, res) => {
     const key = str(req.headers['idempotency-key']);
-    if (key && idempotent.has(key)) return res.json(publicView(idempotent.get(key)!));
+    const earlier = key ? await sessions.byIdempotencyKey(key) : null;
+    if (earlier) return res.json(publicView(earlier));
     const body = req.body as Form;
     const items = Array.isArray(body.line_items) ? (body.line_items as Form[]) : [];
     if (str(body.mode) !== 'payment') return apiError(res, 400, 'Only mode=payment is supported here', 'parameter_invalid');
@@ -109,38 +95,35 @@ export async function startFakePaymentApi(opts: { secretKey: string; webhookSecr
       livemode: false,
       _title: names.join(', '),
     };
-    sessions.set(sessionId, session);
-    if (key) idempotent.set(key, session);
-    res.json(publicView(session));
+    res.json(publicView(await sessions.create(session, key)));
   });
 
-  app.get('/v1/checkout/sessions/:id', auth, (req, res) => {
-    const s = sessions.get(String(req.params.id));
+  app.get('/v1/checkout/sessions/:id', auth, async (req, res) => {
+    const s = await sessions.get(String(req.params.id));
     if (!s) return apiError(res, 404, `No such checkout.session: '${String(req.params.id)}'`, 'resource_missing');
     res.json(publicView(s));
   });
 
-  app.get('/pay/:id', (req, res) => {
-    const s = sessions.get(String(req.params.id));
+  app.get('/pay/:id', async (req, res) => {
+    const s = await sessions.get(String(req.params.id));
     if (!s) return res.status(404).type('html').send(page('Payment not found', '<p>This payment link is not known here.</p>'));
     res.type('html').send(cardPage(s, ''));
   });
 
   app.post('/pay/:id', async (req, res) => {
-    const s = sessions.get(String(req.params.id));
+    const s = await sessions.get(String(req.params.id));
     if (!s) return res.status(404).type('html').send(page('Payment not found', '<p>This payment link is not known here.</p>'));
     if (s.status !== 'open') return res.status(409).type('html').send(page('Already paid', '<p>This payment is already complete.</p>'));
     const card = String((req.body as Form).card ?? '').replace(/\D/g, '');
     if (card.length < 12) return res.status(400).type('html').send(cardPage(s, 'Enter a card number.'));
     if (card === DECLINING_CARD) return res.status(402).type('html').send(cardPage(s, 'The card was declined. Nothing was charged.'));
-    s.status = 'complete';
-    s.payment_status = 'paid';
-    s.payment_intent = id('pi_test');
-    const delivered = await deliver(s);
+    const paid = await sessions.complete(s.id, id('pi_test'));
+    if (!paid) return res.status(409).type('html').send(page('Already paid', '<p>This payment is already complete.</p>'));
+    const delivered = await deliver(paid);
     if (!delivered) {
       return res.status(502).type('html').send(page('Paid, shop not told yet', '<p>The payment went through but the shop could not be told yet. It will see it on the next delivery.</p>'));
     }
-    res.redirect(303, s.success_url.replace('{CHECKOUT_SESSION_ID}', s.id));
+    res.redirect(303, paid.success_url.replace('{CHECKOUT_SESSION_ID}', paid.id));
   });
 
   /** Delivers checkout.session.completed, retrying a little, as the provider would. */

@@ -5,3 +5,4 @@ export * from './bench';
 export * from './billing';
 export * from './recordings';
 export * from './tokens';
+export * from './payment-standin';
