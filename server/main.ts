@@ -16,6 +16,8 @@ import { shareSignedInChanges } from './services/signed-in-sharing';
 export interface RunningServer {
   url: string;
   app: Express;
+  /** The local payment stand-in's address, or null when a real provider is configured. */
+  paymentApiUrl: string | null;
   close(): Promise<void>;
 }
 
@@ -57,6 +59,7 @@ export async function startServer(env: Record<string, string | undefined> = proc
   return {
     url: `http://${config.HOST}:${port}`,
     app,
+    paymentApiUrl: billing.local.paymentApiUrl,
     close: async () => {
       await new Promise<void>((resolve) => server.close(() => resolve()));
       server.closeAllConnections();
