@@ -12,7 +12,7 @@ import { chromium, type Browser, type Page } from 'playwright-core';
 import { encodeWav, generateNoise, generateSine, mixInto } from '../../analysis/index';
 import { startTestServer, testDb } from '../support/server';
 import { ensureWebBuild } from '../../scripts/lib/web-build';
-import { launchChromium } from '../support/browser';
+import { launchChromium, pickOption } from '../support/browser';
 import { makeBenchJob } from '../support/captures';
 import type { RunningServer } from '../../server/main';
 
@@ -64,8 +64,7 @@ describe('input crosstalk test in Chromium', () => {
     expect(await guide.locator('li[data-step]').first().getAttribute('data-step')).toBe('Tuner');
 
     const runStep = async (phase: 'Before repair' | 'After repair', leakDb: number, seed: number) => {
-      await guide.getByRole('combobox', { name: 'Crosstalk phase' }).click();
-      await page.getByRole('option', { name: phase }).click();
+      await pickOption(page, guide.getByRole('combobox', { name: 'Crosstalk phase' }), phase);
       await guide.locator('input[data-step-file="Tuner"]').setInputFiles({ name: `tuner-${seed}.wav`, mimeType: 'audio/wav', buffer: toneFile(-10, seed) });
       await guide.locator('input[data-step-file="Disc"]').setInputFiles({ name: `disc-${seed}.wav`, mimeType: 'audio/wav', buffer: toneFile(-10 - leakDb, seed + 1) });
       await guide.getByRole('button', { name: 'Upload 2 crosstalk captures' }).click();

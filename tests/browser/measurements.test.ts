@@ -10,7 +10,7 @@ import { fileURLToPath } from 'node:url';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import { startTestServer, testDb } from '../support/server';
 import { ensureWebBuild } from '../../scripts/lib/web-build';
-import { launchChromium } from '../support/browser';
+import { launchChromium, pickOption } from '../support/browser';
 import { sample } from '../support/captures';
 import { jobs } from '../../server/db/schema/index';
 import type { RunningServer } from '../../server/main';
@@ -42,8 +42,7 @@ async function signIn(page: Page, email: string) {
 }
 
 async function choose(page: Page, row: ReturnType<Page['locator']>, field: string, option: string | RegExp) {
-  await row.getByRole('combobox', { name: field }).click();
-  await page.getByRole('option', { name: option }).click();
+  await pickOption(page, row.getByRole('combobox', { name: field }), option);
 }
 
 describe('measurements page in Chromium', () => {
