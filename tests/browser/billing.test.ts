@@ -11,7 +11,7 @@ import { chromium, type Browser, type Page } from 'playwright-core';
 import { startTestServer } from '../support/server';
 import { ensureWebBuild } from '../../scripts/lib/web-build';
 import type { RunningServer } from '../../server/main';
-import { launchChromium } from '../support/browser';
+import { launchChromium, signInPage } from '../support/browser';
 
 const root = resolve(fileURLToPath(new URL('../..', import.meta.url)));
 const shots = process.env.BILLING_SHOTS;
@@ -33,13 +33,7 @@ async function shot(page: Page, name: string) {
   if (shots) await page.screenshot({ path: join(shots, `${name}.png`), fullPage: true });
 }
 
-async function signIn(page: Page, email: string) {
-  await page.goto(`${server.url}/sign-in`);
-  await page.fill('input[name=email]', email);
-  await page.fill('input[name=password]', 'bench-demo-2026');
-  await page.click('button[type=submit]');
-  await page.waitForURL((u) => !u.pathname.startsWith('/sign-in'));
-}
+const signIn = (page: Page, email: string) => signInPage(page, server.url, email);
 
 describe('invoice, evidence and payment in the browser', () => {
   it('desk invoices the demo job, the customer pays it, the outbox shows the messages', async () => {

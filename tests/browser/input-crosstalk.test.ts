@@ -12,7 +12,7 @@ import { chromium, type Browser, type Page } from 'playwright-core';
 import { encodeWav, generateNoise, generateSine, mixInto } from '../../analysis/index';
 import { startTestServer, testDb } from '../support/server';
 import { ensureWebBuild } from '../../scripts/lib/web-build';
-import { launchChromium, pickOption } from '../support/browser';
+import { launchChromium, pickOption, signInPage } from '../support/browser';
 import { makeBenchJob } from '../support/captures';
 import type { RunningServer } from '../../server/main';
 
@@ -44,13 +44,7 @@ function toneFile(dbfs: number, seed: number): Buffer {
   return Buffer.from(encodeWav(ch, FS, 24, { dither: 'tpdf', seed }));
 }
 
-async function signIn(page: Page, email: string) {
-  await page.goto(`${server.url}/sign-in`);
-  await page.fill('input[name=email]', email);
-  await page.fill('input[name=password]', 'bench-demo-2026');
-  await page.click('button[type=submit]');
-  await page.waitForURL(/\/jobs$/);
-}
+const signIn = (page: Page, email: string) => signInPage(page, server.url, email);
 
 describe('input crosstalk test in Chromium', () => {
   it('guided upload before and after, inputs in the list, matrix and verdict on the page', async () => {

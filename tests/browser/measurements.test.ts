@@ -10,7 +10,7 @@ import { fileURLToPath } from 'node:url';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import { startTestServer, testDb } from '../support/server';
 import { ensureWebBuild } from '../../scripts/lib/web-build';
-import { launchChromium, pickOption } from '../support/browser';
+import { launchChromium, pickOption, signInPage } from '../support/browser';
 import { sample } from '../support/captures';
 import { jobs } from '../../server/db/schema/index';
 import type { RunningServer } from '../../server/main';
@@ -33,13 +33,7 @@ afterAll(async () => {
   await server?.close();
 });
 
-async function signIn(page: Page, email: string) {
-  await page.goto(`${server.url}/sign-in`);
-  await page.fill('input[name=email]', email);
-  await page.fill('input[name=password]', 'bench-demo-2026');
-  await page.click('button[type=submit]');
-  await page.waitForURL(/\/jobs$/);
-}
+const signIn = (page: Page, email: string) => signInPage(page, server.url, email);
 
 async function choose(page: Page, row: ReturnType<Page['locator']>, field: string, option: string | RegExp) {
   await pickOption(page, row.getByRole('combobox', { name: field }), option);

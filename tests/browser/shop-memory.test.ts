@@ -10,7 +10,7 @@ import { eq } from 'drizzle-orm';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import { startTestServer, testDb } from '../support/server';
 import { ensureWebBuild } from '../../scripts/lib/web-build';
-import { launchChromium } from '../support/browser';
+import { launchChromium, signInPage } from '../support/browser';
 import { apiTokens, customers, jobs, partsUsed, units } from '../../server/db/schema/index';
 import type { RunningServer } from '../../server/main';
 
@@ -44,13 +44,7 @@ afterAll(async () => {
   await close();
 });
 
-async function signIn(page: Page, email: string) {
-  await page.goto(`${server.url}/sign-in`);
-  await page.fill('input[name=email]', email);
-  await page.fill('input[name=password]', 'bench-demo-2026');
-  await page.click('button[type=submit]');
-  await page.waitForURL((u) => !u.pathname.startsWith('/sign-in'));
-}
+const signIn = (page: Page, email: string) => signInPage(page, server.url, email);
 
 describe('shop memory in Chromium', () => {
   it('a technician creates a token, sees it once, and revokes it', async () => {

@@ -1,4 +1,5 @@
 import type { BrowserType, Browser, Locator, Page } from 'playwright-core';
+import { DEMO_PASSWORD } from '../../server/db/seed';
 
 /** Debian's Chromium, headless, with the flags that keep it off the network. */
 export function launchChromium(type: BrowserType, extraArgs: string[] = []): Promise<Browser> {
@@ -27,4 +28,13 @@ export async function pickOption(page: Page, combobox: Locator, option: string |
   await page.locator('.p-select-overlay').first().waitFor({ state: 'detached' });
   await combobox.click();
   await page.getByRole('option', { name: option }).click();
+}
+
+/** Signs a page in through the sign-in form with a demo account; resolves once it has left the form. */
+export async function signInPage(page: Page, baseUrl: string, email: string): Promise<void> {
+  await page.goto(`${baseUrl}/sign-in`);
+  await page.fill('input[name=email]', email);
+  await page.fill('input[name=password]', DEMO_PASSWORD);
+  await page.click('button[type=submit]');
+  await page.waitForURL((u) => !u.pathname.startsWith('/sign-in'));
 }
