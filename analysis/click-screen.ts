@@ -4,18 +4,9 @@
 /**
  * The screen over x[from, to): Σd² and max|d| accumulate in st[4], st[5]; st[0…3] carry x[n−1]
  * and the last 1st/2nd/3rd differences between runs. With accumulate false (the first four
- * samples, which have no history) d counts as zero. The samples are kept in buf from `fill` on;
- * returns the new fill.
+ * samples, which have no history) d counts as zero.
  */
-export function fourthDifference(
-  x: Float64Array,
-  from: number,
-  to: number,
-  buf: Float64Array,
-  fill: number,
-  st: Float64Array,
-  accumulate: boolean,
-): number {
+export function fourthDifference(x: Float64Array, from: number, to: number, st: Float64Array, accumulate: boolean): void {
   // Four cascaded first differences equal the [1, −4, 6, −4, 1] filter, without multiplies.
   let x1 = st[0]!;
   let e1p = st[1]!;
@@ -33,7 +24,6 @@ export function fourthDifference(
     e1p = e1;
     e2p = e2;
     e3p = e3;
-    buf[fill++] = v;
     sq += d * d;
     // Math.abs is branch-free; a `d < 0` test mispredicts half the time on noise.
     const a = Math.abs(d);
@@ -45,5 +35,4 @@ export function fourthDifference(
   st[3] = e3p;
   st[4] = sq;
   st[5] = mx;
-  return fill;
 }

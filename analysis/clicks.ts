@@ -1,5 +1,6 @@
 import { fourthDifference } from './click-screen';
 import { TwoSidedPredictor } from './linear-prediction';
+import type { SampleHistory } from './sample-history';
 import { amplitudeToDbfs } from './units';
 
 // Click (crackle) detection in the streaming pass. There is no standard metric, so this is ours.
@@ -70,6 +71,22 @@ const EDGE_GUARD_SECONDS = 0.002;
 const DETECTOR_GAIN = 6;
 export const MAX_LISTED_CLICKS = 200;
 
+/** Length of the screen's sub-blocks (5 ms), on a fixed grid from frame 0. */
+export function screenSubBlockFrames(sampleRate: number): number {
+  return Math.max(32, Math.round(sampleRate * SUBBLOCK_SECONDS));
+}
+
+/** Sub-blocks the detector looks back over: a group's fit reaches CONTEXT_SUBBLOCKS behind its first sub-block, decisions that far ahead of its last. */
+const RING_SUBBLOCKS = 2 * CONTEXT_SUBBLOCKS + FIT_GROUP_SUBBLOCKS + 1;
+
+/** Frames of samples the detector needs kept behind the newest one (see SampleHistory). */
+export function clickLookBack(sampleRate: number): number {
+  return RING_SUBBLOCKS * screenSubBlockFrames(sampleRate);
+}
+
+/** Told of every finished sub-block: its first frame, its length and its largest |4th difference|. */
+export type SubBlockListener = (start: number, length: number, maxAbs: number) => void;
+
 export interface ClickEvent {
   /** Start of the event (its first crackle sample). */
   timeS: number;
@@ -106,10 +123,10 @@ function median(v: Float64Array, m: number): number {
 export class ClickDetector {
   private readonly sampleRate: number;
   private readonly subLen: number;
-  /** A group's fit reaches CONTEXT_SUBBLOCKS behind its first sub-block; decisions, that far ahead of its last. */
-  private readonly ringSize = 2 * CONTEXT_SUBBLOCKS + FIT_GROUP_SUBBLOCKS + 1;
-  /** Raw samples of the sub-blocks in context, for the check. */
-  private readonly ring: Float64Array[];
+  private readonly ringSize = RING_SUBBLOCKS;
+  /** The raw samples, for the check: kept by the pass for clickLookBack() frames. */
+  private readonly history: SampleHistory;
+  private readonly onSubBlock: SubBlockListener | null;
   private readonly ms: Float64Array;
   private readonly maxAbs: Float64Array;
   private readonly lens: Float64Array;
@@ -137,13 +154,14 @@ export class ClickDetector {
   private count = 0;
   private readonly events: ClickEvent[] = [];
 
-  constructor(sampleRate: number, totalFrames: number) {
+  constructor(sampleRate: number, totalFrames: number, history: SampleHistory, onSubBlock?: SubBlockListener) {
     this.sampleRate = sampleRate;
     this.totalFrames = totalFrames;
+    this.history = history;
+    this.onSubBlock = onSubBlock ?? null;
     this.edgeGuard = Math.round(sampleRate * EDGE_GUARD_SECONDS);
-    this.subLen = Math.max(32, Math.round(sampleRate * SUBBLOCK_SECONDS));
+    this.subLen = screenSubBlockFrames(sampleRate);
     this.mergeGap = Math.round(sampleRate * MERGE_SECONDS);
-    this.ring = Array.from({ length: this.ringSize }, () => new Float64Array(this.subLen));
     this.ms = new Float64Array(this.ringSize);
     this.maxAbs = new Float64Array(this.ringSize);
     this.lens = new Float64Array(this.ringSize);
@@ -168,18 +186,9 @@ export class ClickDetector {
     return this.runState;
   }
 
-  /** Where the fused loop in pass.ts keeps the samples: the current sub-block, from `fill` on. */
-  get buffer(): Float64Array {
-    return this.ring[this.cur % this.ringSize]!;
-  }
-
-  get fill(): number {
-    return this.filled;
-  }
-
-  /** Accounts for a run of `count` samples kept up to `fill`; decides sub-blocks now in context. */
-  endRun(count: number, fill: number): void {
-    this.filled = fill;
+  /** Accounts for a run of `count` samples screened into state; decides sub-blocks now in context. */
+  endRun(count: number): void {
+    this.filled += count;
     this.n += count;
     if (this.filled === this.subLen) {
       this.closeSubBlock();
@@ -189,7 +198,8 @@ export class ClickDetector {
 
   /** Runs the screen by itself over x[from, to), within room(). */
   scanRun(x: Float64Array, from: number, to: number): void {
-    this.endRun(to - from, fourthDifference(x, from, to, this.buffer, this.filled, this.runState, !this.warming));
+    fourthDifference(x, from, to, this.runState, !this.warming);
+    this.endRun(to - from);
   }
 
   private closeSubBlock(): void {
@@ -197,6 +207,7 @@ export class ClickDetector {
     this.ms[slot] = this.runState[4]! / this.filled;
     this.maxAbs[slot] = this.runState[5]!;
     this.lens[slot] = this.filled;
+    this.onSubBlock?.(this.cur * this.subLen, this.filled, this.runState[5]!);
     this.cur++;
     this.filled = 0;
     this.runState[4] = 0;
@@ -245,7 +256,7 @@ export class ClickDetector {
     for (let s = from; s <= to; s++) {
       const slot = s % this.ringSize;
       const start = len;
-      span.set(this.ring[slot]!.subarray(0, this.lens[slot]!), len);
+      this.history.copy(s * this.subLen, s * this.subLen + this.lens[slot]!, span, len);
       len += this.lens[slot]!;
       if ((s - anchor) % SIGMA_STRIDE === 0) sampled.push(start, len);
       if (s >= anchor - FIT_CONTEXT_SUBBLOCKS && s < anchor + FIT_GROUP_SUBBLOCKS + FIT_CONTEXT_SUBBLOCKS) {
@@ -322,7 +333,7 @@ export class ClickDetector {
     for (let s = Math.max(0, j - 1); s <= Math.min(this.cur - 1, j + 1); s++) {
       const slot = s % this.ringSize;
       if (s === j) offset = len;
-      span.set(this.ring[slot]!.subarray(0, this.lens[slot]!), len);
+      this.history.copy(s * this.subLen, s * this.subLen + this.lens[slot]!, span, len);
       len += this.lens[slot]!;
     }
     const thrF = Math.max(THRESHOLD_SIGMA * this.sigmaF, this.floor);

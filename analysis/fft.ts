@@ -18,11 +18,56 @@ export function ceilPowerOfTwo(n: number): number {
 
 const tables = new Map<number, FFT>();
 
+/** The fields fft.js 4.0.x keeps, as its constructor sets them up (tests/analysis/fft-tables.test.ts holds us to it). */
+interface FftFields {
+  size: number;
+  _csize: number;
+  table: Float64Array;
+  _width: number;
+  _bitrev: Int32Array;
+  _out: null;
+  _data: null;
+  _inv: number;
+}
+
+/**
+ * An fft.js instance whose tables are the ones its constructor computes, same expressions, same
+ * values, but held in typed arrays. Its constructor fills plain arrays: for the 2^17-point
+ * measurement frames that is 2 MB of boxed-array garbage and tens of milliseconds of cold code in
+ * every analysis thread, about as long as the frame's transform itself.
+ */
+export function fftWithTypedTables(size: number): FFT {
+  if (!isPowerOfTwo(size)) throw new RangeError(`FFT size must be a power of two ≥ 4, got ${size}`);
+  const f = Object.create(FFT.prototype as object) as FftFields;
+  f.size = size;
+  f._csize = size << 1;
+  const table = new Float64Array(size * 2);
+  for (let i = 0; i < table.length; i += 2) {
+    const angle = (Math.PI * i) / size;
+    table[i] = Math.cos(angle);
+    table[i + 1] = -Math.sin(angle);
+  }
+  f.table = table;
+  const power = Math.log2(size);
+  f._width = power % 2 === 0 ? power - 1 : power;
+  const bitrev = new Int32Array(1 << f._width);
+  for (let j = 0; j < bitrev.length; j++) {
+    let r = 0;
+    for (let shift = 0; shift < f._width; shift += 2) r |= ((j >>> shift) & 3) << (f._width - shift - 2);
+    bitrev[j] = r;
+  }
+  f._bitrev = bitrev;
+  f._out = null;
+  f._data = null;
+  f._inv = 0;
+  return f as unknown as FFT;
+}
+
 /** fft.js instances hold only their twiddle tables, so one per size is shared (a few sizes kept). */
 function fftOfSize(size: number): FFT {
   let f = tables.get(size);
   if (!f) {
-    f = new FFT(size);
+    f = fftWithTypedTables(size);
     if (tables.size >= 4) tables.delete(tables.keys().next().value!);
     tables.set(size, f);
   }

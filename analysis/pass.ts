@@ -7,18 +7,10 @@ import type { LevelMeter } from './levels';
 
 /**
  * Over x[from, to): sums = [Σx, Σx², min, max] for the levels, and the click screen's Σd² and
- * max|d| of the 4th difference (as fourthDifference in clicks.ts: four cascaded first
- * differences), with the samples copied into the detector's buffer from `fill` on.
+ * max|d| of the 4th difference (as fourthDifference in click-screen.ts: four cascaded first
+ * differences), carried in st between runs.
  */
-function levelsAndScreen(
-  x: Float64Array,
-  from: number,
-  to: number,
-  buf: Float64Array,
-  fill: number,
-  st: Float64Array,
-  sums: Float64Array,
-): number {
+function levelsAndScreen(x: Float64Array, from: number, to: number, st: Float64Array, sums: Float64Array): void {
   let sum = 0;
   let sq = 0;
   let lo = Infinity;
@@ -43,7 +35,6 @@ function levelsAndScreen(
     e1p = e1;
     e2p = e2;
     e3p = e3;
-    buf[fill++] = v;
     dsq += d * d;
     const a = Math.abs(d);
     if (a > dmax) dmax = a;
@@ -58,7 +49,6 @@ function levelsAndScreen(
   sums[1] = sq;
   sums[2] = lo;
   sums[3] = hi;
-  return fill;
 }
 
 export class ChannelPass {
@@ -80,9 +70,9 @@ export class ChannelPass {
         levels.scanRun(x, i, to);
         clicks.scanRun(x, i, to);
       } else {
-        const fill = levelsAndScreen(x, i, to, clicks.buffer, clicks.fill, clicks.state, this.sums);
+        levelsAndScreen(x, i, to, clicks.state, this.sums);
         levels.addRun(x, i, to, this.sums);
-        clicks.endRun(to - i, fill);
+        clicks.endRun(to - i);
       }
       i = to;
     }

@@ -1,17 +1,21 @@
 import type { Spectrogram } from '../shared/analysis-result';
 import { bytesToBase64 } from '../shared/byte-text';
+import { screenSubBlockFrames } from './clicks';
+import { fourthDifference } from './click-screen';
 import { ceilPowerOfTwo, RealFft } from './fft';
+import { SampleHistory } from './sample-history';
 import { FrameCollector } from './spectrum';
 import { makeWindow } from './window';
 
 // A time × frequency picture of a capture at a fixed size (columns × log-spaced rows), whatever
 // its length, built in one streaming pass.
 //
-// Cost is bounded too: each column gets at most a few evenly spaced FFT frames (the steady
-// picture: tone, harmonics, hum, noise floor) plus one frame centred on the column's sharpest
-// transient, found by a cheap per-sample scan of the second difference x[k] − 2x[k−1] + x[k−2]
-// (a high-pass that lets an impulse through and keeps a low tone down). Without that frame a
-// click between two steady frames, or at their tapered edges, would not show. A column keeps the
+// Cost is bounded too: each column gets one FFT frame at its middle (the steady picture: tone,
+// harmonics, hum, noise floor) plus, when the column holds a clearly sharper moment than its
+// middle, one frame centred on the sharpest 5 ms sub-block. Sharpness is the click screen's
+// figure, the largest |4th difference| per sub-block (clicks.ts), which the pass computes anyway:
+// a high-pass that lets an impulse through and keeps a low tone down. Without that frame a click
+// between two steady frames, or at their tapered edges, would not show. A column keeps the
 // highest level each row reached in any of its frames (max-hold), so short events stay visible.
 //
 // Levels: dB = 10·lg(4·|X[k]|² / (Σw)²), so a sine's peak bin reads its dBFS (AES17: full-scale
@@ -25,10 +29,10 @@ export const SPECTROGRAM_LOW_HZ = 20;
 /** Byte b stands for FLOOR + b·STEP dB: 0.6 dB steps from −153 to 0 dBFS. */
 export const SPECTROGRAM_FLOOR_DB = -153;
 export const SPECTROGRAM_STEP_DB = 0.6;
-const STEADY_FRAMES_PER_COLUMN = 1;
 const WINDOW = 'blackman-harris-4' as const;
+/** A new transient frame only for a clearly sharper sub-block (3.5 dB): a steady tone sets small records all the time, and each would cost a copy. */
 const RECORD_MARGIN = 1.5;
-/** A transient frame is analysed when its point is this much sharper (6 dB) than the steady frame's middle. */
+/** A transient frame is analysed when its sub-block is this much sharper (6 dB) than the sharpest one in the middle of the steady frame. */
 const TRANSIENT_OVER_STEADY = 2;
 
 /**
@@ -39,6 +43,11 @@ export function spectrogramFrameSize(sampleRate: number): number {
   return ceilPowerOfTwo(sampleRate / 24);
 }
 
+/** Frames of samples the spectrogram needs kept behind the newest one (see SampleHistory). */
+export function spectrogramLookBack(sampleRate: number): number {
+  return spectrogramFrameSize(sampleRate);
+}
+
 export interface SpectrogramOptions {
   sampleRate: number;
   channels: number;
@@ -46,55 +55,32 @@ export interface SpectrogramOptions {
   totalFrames: number;
   columns?: number;
   rows?: number;
+  /**
+   * Given by the analysis pass: one per channel, holding the samples pushed (the decoder writes
+   * them there), and the sub-blocks' sharpness then comes from the pass through noteSubBlock().
+   * Without them the accumulator keeps its own copies and runs the screen itself.
+   */
+  histories?: readonly SampleHistory[];
 }
 
 interface OpenColumn {
   column: number;
-  /** Largest |second difference| so far and where it was (absolute frame); -1 when snapped. */
+  /** Sharpest sub-block so far and the frame at its centre; centre −1 once snapped. */
   peak: number;
   centre: number;
   snapshot: Float64Array[] | null;
-  /** The scan's figure for the point the snapshot is centred on. */
+  /** The sharpness of the sub-block the snapshot is centred on. */
   snapPeak: number;
   closed: boolean;
 }
 
-/**
- * Max |x[k] − 2x[k−1] + x[k−2]| over every third k in [from, to), with st = [x[from−1], x[from−2]]
- * carried across calls. Every third sample is enough: an impulse of size a gives a, −2a, a on three
- * consecutive samples, so exactly one of them is looked at and reads at least a. Reading each
- * sample once keeps this scan, which sees every sample of the capture, cheap.
- */
-function sharpestPoint(x: Float64Array, from: number, to: number, st: Float64Array, out: Float64Array): void {
-  let best = -1;
-  let at = from;
-  const n = to - from;
-  if (n >= 1) {
-    best = Math.abs(x[from]! - 2 * st[0]! + st[1]!);
-  }
-  if (n >= 2) {
-    const d = Math.abs(x[from + 1]! - 2 * x[from]! + st[0]!);
-    if (d > best) {
-      best = d;
-      at = from + 1;
-    }
-  }
-  for (let k = from + 4; k < to; k += 3) {
-    const d = Math.abs(x[k]! - 2 * x[k - 1]! + x[k - 2]!);
-    if (d > best) {
-      best = d;
-      at = k;
-    }
-  }
-  if (n >= 2) {
-    st[0] = x[to - 1]!;
-    st[1] = x[to - 2]!;
-  } else if (n === 1) {
-    st[1] = st[0]!;
-    st[0] = x[from]!;
-  }
-  out[0] = best;
-  out[1] = at;
+/** The screen run by a stand-alone accumulator, per channel: the same arithmetic as the pass's. */
+interface OwnScreen {
+  state: Float64Array[];
+  /** Frames screened so far, and in the current sub-block. */
+  screened: number;
+  filled: number;
+  subLen: number;
 }
 
 export class SpectrogramAccumulator {
@@ -115,17 +101,19 @@ export class SpectrogramAccumulator {
   private readonly steady: FrameCollector;
   private readonly steadyColumn: Int32Array;
   private steadyDone = 0;
-  /** Per column, the largest |second difference| in the central quarter of its steady frames; −1 until seen. */
-  private readonly steadySharpness: Float64Array;
+  /** Per column, the middle quarter [from, to) of its steady frame, and the sharpest sub-block touching it (−1 until seen). */
+  private readonly middleFrom: Float64Array;
+  private readonly middleTo: Float64Array;
+  private readonly middleSharpness: Float64Array;
   private readonly scratch: Float64Array;
   private readonly power: Float64Array;
-  /** The last 2·frameSize samples of each channel, indexed by absolute frame mod 2·frameSize. */
-  private readonly ring: Float64Array[];
-  private readonly diffState: Float64Array[];
-  private readonly found = new Float64Array(2);
+  private readonly histories: readonly SampleHistory[];
+  private readonly own: OwnScreen | null;
   private readonly open: OpenColumn[] = [];
   private column = -1;
+  /** Frames pushed so far, and the end of the last sub-block noted. */
   private position = 0;
+  private notedTo = 0;
   private finished = false;
 
   constructor(o: SpectrogramOptions) {
@@ -143,8 +131,15 @@ export class SpectrogramAccumulator {
     this.scratch = new Float64Array(n);
     this.power = new Float64Array(n / 2 + 1);
     this.cells = Array.from({ length: o.channels }, () => new Float64Array(this.columns * this.rows));
-    this.ring = Array.from({ length: o.channels }, () => new Float64Array(2 * n));
-    this.diffState = Array.from({ length: o.channels }, () => new Float64Array(2));
+    if (o.histories) {
+      if (o.histories.length !== o.channels) throw new RangeError(`${o.histories.length} histories for ${o.channels} channels`);
+      this.histories = o.histories;
+      this.own = null;
+    } else {
+      // Stand-alone pushes come in pieces of at most a frame, so a ring of two frames is enough.
+      this.histories = Array.from({ length: o.channels }, () => new SampleHistory(n, n));
+      this.own = { state: Array.from({ length: o.channels }, () => new Float64Array(6)), screened: 0, filled: 0, subLen: screenSubBlockFrames(o.sampleRate) };
+    }
 
     const binHz = o.sampleRate / n;
     const ratio = (this.highHz / SPECTROGRAM_LOW_HZ) ** (1 / this.rows);
@@ -162,23 +157,19 @@ export class SpectrogramAccumulator {
     }
 
     const starts: number[] = [];
-    const owners: number[] = [];
+    this.middleFrom = new Float64Array(this.columns);
+    this.middleTo = new Float64Array(this.columns);
+    this.middleSharpness = new Float64Array(this.columns).fill(-1);
     for (let c = 0; c < this.columns; c++) {
       const from = this.edge(c);
-      const length = this.edge(c + 1) - from;
-      const k = Math.min(STEADY_FRAMES_PER_COLUMN, Math.max(1, Math.round(length / n)));
-      for (let j = 0; j < k; j++) {
-        starts.push(this.frameStartNear(Math.round(from + ((j + 0.5) * length) / k)));
-        owners.push(c);
-      }
+      const start = this.frameStartNear(Math.round(from + (this.edge(c + 1) - from) / 2));
+      starts.push(start);
+      // Where the steady frame's window is above −3 dB: an event there shows in that frame already.
+      this.middleFrom[c] = start + (3 * n) / 8;
+      this.middleTo[c] = start + (5 * n) / 8;
     }
-    this.steadyColumn = Int32Array.from(owners);
-    this.steadySharpness = new Float64Array(this.columns).fill(-1);
-    this.steady = new FrameCollector(n, starts, o.channels, (frame) => {
-      const column = this.steadyColumn[this.steadyDone++]!;
-      this.noteSteadySharpness(column, frame);
-      this.addFrame(column, frame);
-    });
+    this.steadyColumn = Int32Array.from(starts, (_, c) => c);
+    this.steady = new FrameCollector(n, starts, o.channels, (frame) => this.addFrame(this.steadyColumn[this.steadyDone++]!, frame));
   }
 
   get highHz(): number {
@@ -200,36 +191,68 @@ export class SpectrogramAccumulator {
     return Math.round((c * this.totalFrames) / this.columns);
   }
 
-  /** Feeds frames [startFrame, startFrame + length) of every channel, in order. */
+  /**
+   * Feeds frames [startFrame, startFrame + length) of every channel, in order. With histories
+   * given, call noteSubBlock() for the sub-blocks inside these frames first.
+   */
   push(block: readonly Float64Array[], startFrame: number, length: number): void {
     if (this.finished) throw new Error('SpectrogramAccumulator: push after result');
-    const n = this.frameSize;
-    const half = n / 2;
-    const found = this.found;
-    for (let i = 0; i < length; ) {
-      const at = startFrame + i;
-      while (this.column < this.columns - 1 && at >= this.edge(this.column + 1)) this.openColumn(this.column + 1);
-      const current = this.open[this.open.length - 1]!;
-      // Runs of at most half a frame keep a pending centre within the ring when its frame completes.
-      const to = Math.min(length, i + half, this.column < this.columns - 1 ? this.edge(this.column + 1) - startFrame : length);
-      for (let c = 0; c < this.channels; c++) {
-        const x = block[c]!;
-        const st = this.diffState[c]!;
-        if (at === 0) st[0] = st[1] = x[0]!;
-        sharpestPoint(x, i, to, st, found);
-        // A new frame only for a clearly sharper point (3.5 dB): a steady tone sets small records
-        // all the time, and each would cost a copy of the frame.
-        if (found[0]! > current.peak * RECORD_MARGIN) {
-          current.peak = found[0]!;
-          current.centre = startFrame + found[1]!;
-        }
-        this.toRing(c, x, i, to, at);
+    if (this.own) {
+      for (let i = 0; i < length; i += this.frameSize) {
+        const piece = Math.min(this.frameSize, length - i);
+        const parts = block.map((x) => x.subarray(i, i + piece));
+        for (let c = 0; c < this.channels; c++) this.histories[c]!.write(startFrame + i, parts[c]!, piece);
+        this.screen(parts, piece);
+        this.position = startFrame + i + piece;
+        this.settle(false);
       }
-      this.position = startFrame + to;
-      this.snapReady(false);
-      i = to;
+    } else {
+      this.position = startFrame + length;
+      this.settle(false);
     }
     this.steady.push(block, startFrame, length);
+  }
+
+  /** The screen of a stand-alone accumulator, sub-block by sub-block as clicks.ts cuts them. */
+  private screen(parts: readonly Float64Array[], length: number): void {
+    const own = this.own!;
+    for (let i = 0; i < length; ) {
+      // The first four samples have no history: the screen holds d at zero there (as clicks.ts).
+      const room = own.screened < 4 ? 4 - own.screened : own.subLen - own.filled;
+      const to = Math.min(length, i + room);
+      for (let c = 0; c < this.channels; c++) fourthDifference(parts[c]!, i, to, own.state[c]!, own.screened >= 4);
+      own.screened += to - i;
+      own.filled += to - i;
+      if (own.filled === own.subLen) this.closeOwnSubBlock();
+      i = to;
+    }
+  }
+
+  private closeOwnSubBlock(): void {
+    const own = this.own!;
+    const start = own.screened - own.filled;
+    for (let c = 0; c < this.channels; c++) {
+      this.noteSubBlock(start, own.filled, own.state[c]![5]!);
+      own.state[c]![4] = 0;
+      own.state[c]![5] = 0;
+    }
+    own.filled = 0;
+  }
+
+  /** A screened sub-block of frames [start, start + length) and its largest |4th difference|. */
+  noteSubBlock(start: number, length: number, maxAbs: number): void {
+    const centre = start + (length >> 1);
+    while (this.column < this.columns - 1 && centre >= this.edge(this.column + 1)) this.openColumn(this.column + 1);
+    const current = this.open[this.open.length - 1]!;
+    if (maxAbs > current.peak * RECORD_MARGIN) {
+      current.peak = maxAbs;
+      current.centre = centre;
+    }
+    const end = start + length;
+    for (let c = Math.max(0, this.column - 1); c <= Math.min(this.columns - 1, this.column + 1); c++) {
+      if (start < this.middleTo[c]! && end > this.middleFrom[c]! && maxAbs > this.middleSharpness[c]!) this.middleSharpness[c] = maxAbs;
+    }
+    this.notedTo = end;
   }
 
   private openColumn(c: number): void {
@@ -239,62 +262,36 @@ export class SpectrogramAccumulator {
     this.open.push({ column: c, peak: -1, centre: -1, snapshot: null, snapPeak: -1, closed: false });
   }
 
-  private toRing(c: number, x: Float64Array, from: number, to: number, at: number): void {
-    const ring = this.ring[c]!;
-    const size = ring.length;
-    const r = at % size;
-    const first = Math.min(to - from, size - r);
-    ring.set(x.subarray(from, from + first), r);
-    if (first < to - from) ring.set(x.subarray(from + first, to), 0);
-  }
-
-  /** Copies out transient frames whose samples have all arrived (or all there will be, at the end). */
-  private snapReady(atEnd: boolean): void {
-    const half = this.frameSize / 2;
+  /**
+   * Copies out transient frames whose samples have all arrived (or all there will be, at the end),
+   * and adds those of closed columns whose middle has been screened.
+   */
+  private settle(atEnd: boolean): void {
+    const n = this.frameSize;
     for (let k = 0; k < this.open.length; ) {
       const col = this.open[k]!;
-      if (col.centre >= 0 && (atEnd || this.frameStartNear(col.centre) + 2 * half <= this.position)) {
-        col.snapshot ??= Array.from({ length: this.channels }, () => new Float64Array(this.frameSize));
-        for (let c = 0; c < this.channels; c++) this.fromRing(c, this.frameStartNear(col.centre), col.snapshot[c]!);
+      if (col.centre >= 0 && (atEnd || this.frameStartNear(col.centre) + n <= this.position)) {
+        col.snapshot ??= Array.from({ length: this.channels }, () => new Float64Array(n));
+        for (let c = 0; c < this.channels; c++) this.fromHistory(c, this.frameStartNear(col.centre), col.snapshot[c]!);
         col.snapPeak = col.peak;
         col.centre = -1;
       }
-      if (col.closed && col.centre < 0) {
-        // The transient frame is only worth its FFT when its point is clearly sharper than anything
-        // in the middle of the column's steady frame (where that frame's window is above −3 dB).
-        const steady = this.steadySharpness[col.column]!;
-        if (col.snapshot && !(steady >= 0 && col.snapPeak <= TRANSIENT_OVER_STEADY * steady)) this.addFrame(col.column, col.snapshot);
+      if (col.closed && col.centre < 0 && (atEnd || this.notedTo >= this.middleTo[col.column]!)) {
+        // The transient frame is only worth its FFT when its sub-block is clearly sharper than
+        // anything in the middle of the column's steady frame.
+        const middle = this.middleSharpness[col.column]!;
+        if (col.snapshot && !(middle >= 0 && col.snapPeak <= TRANSIENT_OVER_STEADY * middle)) this.addFrame(col.column, col.snapshot);
         this.open.splice(k, 1);
       } else k++;
     }
   }
 
-  /** Frames [from, from + frameSize) from the ring; frames before 0 or not yet seen read as zero. */
-  private fromRing(c: number, from: number, out: Float64Array): void {
-    const ring = this.ring[c]!;
-    const size = ring.length;
-    // Only frames seen and still held in the ring are copied; the rest (before 0, past the end) is zero.
-    const lo = Math.max(from, 0, this.position - size);
+  /** Frames [from, from + frameSize) from the history; frames before 0 or not yet seen read as zero. */
+  private fromHistory(c: number, from: number, out: Float64Array): void {
+    const lo = Math.max(from, 0);
     const hi = Math.min(from + out.length, this.position);
     out.fill(0);
-    for (let q = lo; q < hi; ) {
-      const r = q % size;
-      const take = Math.min(hi - q, size - r);
-      out.set(ring.subarray(r, r + take), q - from);
-      q += take;
-    }
-  }
-
-  private noteSteadySharpness(column: number, frame: readonly Float64Array[]): void {
-    const n = this.frameSize;
-    let best = this.steadySharpness[column]!;
-    for (const x of frame) {
-      for (let k = (3 * n) / 8, end = (5 * n) / 8; k < end; k++) {
-        const d = Math.abs(x[k]! - 2 * x[k - 1]! + x[k - 2]!);
-        if (d > best) best = d;
-      }
-    }
-    this.steadySharpness[column] = best;
+    if (hi > lo) this.histories[c]!.copy(lo, hi, out, lo - from);
   }
 
   private addFrame(column: number, frame: readonly Float64Array[]): void {
@@ -317,11 +314,12 @@ export class SpectrogramAccumulator {
   private finish(): void {
     if (this.finished) return;
     this.finished = true;
+    if (this.own && this.own.filled > 0) this.closeOwnSubBlock();
     // Columns the data never reached (a short file) still get their frames, all zero.
     while (this.column < this.columns - 1) this.openColumn(this.column + 1);
     const last = this.open[this.open.length - 1];
     if (last) last.closed = true;
-    this.snapReady(true);
+    this.settle(true);
     this.steady.finish(this.totalFrames);
   }
 

@@ -1,4 +1,5 @@
 import type { WavInfo } from '../shared/analysis-result';
+import type { SampleHistory } from './sample-history';
 import { WavFormatError } from './wav-header';
 
 // Sample decoding into planar Float64 blocks. Scale: integer PCM divided by 2^(bits−1), so the
@@ -48,10 +49,10 @@ const LITTLE_ENDIAN = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
 /**
  * 24-bit mono or stereo from 32-bit words: 12 bytes = 3 words = 4 samples (w0 = s0 + low byte of
  * s1, w1 = the rest of s1 + two bytes of s2, w2 = last byte of s2 + s3). Needs (b.byteOffset + at)
- * divisible by 4 and a little-endian machine. Returns the frames decoded: whole groups only, the
- * caller finishes the rest.
+ * divisible by 4 and a little-endian machine. For stereo, `only` picks one channel (0 or 1) into
+ * out[0], or −1 for both. Returns the frames decoded: whole groups only, the caller finishes the rest.
  */
-function decode24Words(b: Uint8Array, at: number, n: number, out: readonly Float64Array[], pos: number, ch: number): number {
+function decode24Words(b: Uint8Array, at: number, n: number, out: readonly Float64Array[], pos: number, ch: number, only: number): number {
   // A shift, not a division: the frame count is often odd, and n·ch stays far below 2^31.
   const groups = (n * ch) >> 2;
   const w = new Int32Array(b.buffer, b.byteOffset + at, groups * 3);
@@ -68,6 +69,21 @@ function decode24Words(b: Uint8Array, at: number, n: number, out: readonly Float
       a[f + 3] = (w2 >> 8) * s;
     }
     return groups * 4;
+  }
+  // One channel of a stereo pair: a thread measuring its share skips the other's arithmetic.
+  if (only === 0) {
+    for (let g = 0, j = 0, f = pos; g < groups; g++, j += 3, f += 2) {
+      a[f] = ((w[j]! << 8) >> 8) * s;
+      a[f + 1] = (((w[j + 2]! << 24) >> 8) | (w[j + 1]! >>> 16)) * s;
+    }
+    return groups * 2;
+  }
+  if (only === 1) {
+    for (let g = 0, j = 0, f = pos; g < groups; g++, j += 3, f += 2) {
+      a[f] = (((w[j + 1]! << 16) >> 8) | (w[j]! >>> 24)) * s;
+      a[f + 1] = (w[j + 2]! >> 8) * s;
+    }
+    return groups * 2;
   }
   const r = out[1]!;
   for (let g = 0, j = 0, f = pos; g < groups; g++, j += 3, f += 2) {
@@ -132,7 +148,8 @@ function makeReader(info: WavInfo, view: () => DataView, keep: readonly number[]
           for (; f < to; f++, i += stride) o[pos + f] = (dv.getInt32(i - 1, true) >> 8) * (1 / 8388608);
         }
       };
-      const wordWise = ch <= 2 && kept === ch && LITTLE_ENDIAN;
+      const wordWise = ch <= 2 && LITTLE_ENDIAN;
+      const only = ch === 2 && kept === 1 ? keep[0]! : -1;
       return (b, at, n, out, pos) => {
         // Frames to skip until a 4-byte boundary: stereo frames are 6 bytes (only an even start
         // can get there), mono 3 (always within four frames).
@@ -143,7 +160,7 @@ function makeReader(info: WavInfo, view: () => DataView, keep: readonly number[]
           return -1;
         }
         byteWise(b, at, 0, lead, out, pos);
-        const done = lead + decode24Words(b, at + lead * stride, n - lead, out, pos + lead, ch);
+        const done = lead + decode24Words(b, at + lead * stride, n - lead, out, pos + lead, ch, only);
         byteWise(b, at, done, n, out, pos);
         return -1;
       };
@@ -192,12 +209,16 @@ function makeReader(info: WavInfo, view: () => DataView, keep: readonly number[]
   }
 }
 
+/** Frames per decoded block: big enough to amortise the per-block work, small enough to stay in cache. */
+export const DECODER_BLOCK_FRAMES = 8192;
+
 /** Turns the data chunk's bytes, in chunks of any size, into fixed-size planar blocks. */
 export class FrameDecoder {
   readonly blockFrames: number;
   private readonly info: WavInfo;
   private readonly sink: BlockSink;
-  private readonly block: Float64Array[];
+  private block: Float64Array[];
+  private readonly histories: readonly SampleHistory[] | null;
   private readonly carry: Uint8Array;
   private carryLength = 0;
   private blockFill = 0;
@@ -206,13 +227,19 @@ export class FrameDecoder {
   private currentView: DataView = new DataView(new ArrayBuffer(0));
   private readonly read: FrameReader;
 
-  /** `keep`: the channels to decode, in order (default all); the sink's blocks hold those only. */
-  constructor(info: WavInfo, sink: BlockSink, blockFrames = 8192, keep?: readonly number[]) {
+  /**
+   * `keep`: the channels to decode, in order (default all); the sink's blocks hold those only.
+   * `histories`: one per kept channel; each block is decoded straight into its ring (the sink's
+   * blocks are windows of it), so the samples stay there for whoever looks back.
+   */
+  constructor(info: WavInfo, sink: BlockSink, blockFrames = DECODER_BLOCK_FRAMES, keep?: readonly number[], histories?: readonly SampleHistory[]) {
     this.info = info;
     this.sink = sink;
     this.blockFrames = blockFrames;
     const channels = keep ?? Array.from({ length: info.channels }, (_, c) => c);
-    this.block = channels.map(() => new Float64Array(blockFrames));
+    if (histories && histories.length !== channels.length) throw new RangeError(`${histories.length} histories for ${channels.length} channels`);
+    this.histories = histories ?? null;
+    this.block = histories ? histories.map((h) => h.blockAt(0, blockFrames)) : channels.map(() => new Float64Array(blockFrames));
     this.carry = new Uint8Array(info.blockAlign);
     this.read = makeReader(info, () => this.currentView, channels);
   }
@@ -273,6 +300,7 @@ export class FrameDecoder {
     this.sink(this.block, this.blockStart, this.blockFill);
     this.blockStart += this.blockFill;
     this.blockFill = 0;
+    if (this.histories) this.block = this.histories.map((h) => h.blockAt(this.blockStart, this.blockFrames));
   }
 
   /** Ends the data; throws 'truncated' when fewer frames arrived than the header declared. */

@@ -1,7 +1,8 @@
 import { parentPort, workerData } from 'node:worker_threads';
-import { CaptureAnalyzer, type ChannelShare } from '../../analysis/index';
+import type { ChannelShare } from '../../analysis/channel-split';
+import { ShareAnalyzer } from '../../analysis/share-analyzer';
 import type { AnalyzeOptions } from '../../shared/analysis-result';
-import { readFileChunks } from './file-chunks';
+import { readFileChunksBlocking } from './file-chunks';
 
 // One analysis thread: measures its share of a capture's channels and posts the figures back
 // (channel-threads.ts starts it). Errors go back as plain data, so the caller can rebuild them.
@@ -16,10 +17,14 @@ export type ThreadReply =
   | { ok: true; share: ChannelShare }
   | { ok: false; error: { name: string; message: string; code?: string } };
 
-/** Measures one share; used by the thread below and, for its own share, by the calling thread. */
-export async function measureShare(task: ThreadTask): Promise<ChannelShare> {
-  const analyzer = new CaptureAnalyzer(task.options, task.channels);
-  for await (const chunk of readFileChunks(task.path)) analyzer.push(chunk);
+/**
+ * Measures one share, reading the file with blocking reads: used by the thread below and, for its
+ * own share, by a calling thread that has nothing else to do (a command-line run).
+ */
+export function measureShare(task: ThreadTask): ChannelShare {
+  // The options were checked by the caller (parseAnalyzeOptions): the thread loads no schema code.
+  const analyzer = new ShareAnalyzer(task.options, task.channels);
+  for (const chunk of readFileChunksBlocking(task.path)) analyzer.push(chunk);
   return analyzer.finishShare();
 }
 
@@ -27,7 +32,7 @@ if (parentPort && (workerData as { channelThread?: boolean } | null)?.channelThr
   const port = parentPort;
   // One task at a time: the caller sends the next only after this one's reply.
   port.on('message', (task: ThreadTask) => {
-    measureShare(task).then(
+    new Promise<ChannelShare>((resolve) => resolve(measureShare(task))).then(
       (share) => port.postMessage({ ok: true, share } satisfies ThreadReply),
       (err: unknown) => {
         const e = err instanceof Error ? err : new Error(String(err));

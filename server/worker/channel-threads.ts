@@ -244,7 +244,11 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
   const running = tasks.map(() => take(code));
   let ok = false;
   try {
-    const parts = await Promise.all([...(own ? [measureShare(own)] : []), ...running.map((t, i) => run(t, tasks[i]!))]);
+    // The threads get their tasks first; then this thread measures its own share, blocking, as a
+    // command-line run has nothing else to do meanwhile.
+    const theirs = running.map((t, i) => run(t, tasks[i]!));
+    const mine = own ? [new Promise<ChannelShare>((resolve) => resolve(measureShare(own)))] : [];
+    const parts = await Promise.all([...mine, ...theirs]);
     ok = true;
     return resultFromShares({ engineVersion: ENGINE_VERSION, info, options: parsed, shares: parts });
   } finally {
