@@ -25,8 +25,8 @@ function levelsAndScreen(x: Float64Array, from: number, to: number, st: Float64A
     const v = x[k]!;
     sum += v;
     sq += v * v;
-    if (v < lo) lo = v;
-    if (v > hi) hi = v;
+    lo = Math.min(lo, v);
+    hi = Math.max(hi, v);
     const e1 = v - x1;
     const e2 = e1 - e1p;
     const e3 = e2 - e2p;
@@ -36,8 +36,7 @@ function levelsAndScreen(x: Float64Array, from: number, to: number, st: Float64A
     e2p = e2;
     e3p = e3;
     dsq += d * d;
-    const a = Math.abs(d);
-    if (a > dmax) dmax = a;
+    dmax = Math.max(dmax, Math.abs(d));
   }
   st[0] = x1;
   st[1] = e1p;
