@@ -1,0 +1,48 @@
+import { analyzeWavBytes } from '../../../analysis/index';
+import { AnalysisPool } from '../../../web/src/workers/analysis-pool';
+import type { PoolHarness } from './harness';
+
+// A bare page for checking and timing the browser's analysis pool in Chromium: it analyses WAV
+// files served beside it through the pool and through one analyzeWavBytes on this thread.
+
+// ?workers=N sets the pool's size (the default follows the machine's cores).
+const pool = new AnalysisPool(Number(new URLSearchParams(location.search).get('workers')) || undefined);
+
+async function fetchWav(name: string): Promise<Uint8Array> {
+  const res = await fetch(`/wav/${name}`);
+  if (!res.ok) throw new Error(`${name}: HTTP ${res.status}`);
+  return new Uint8Array(await res.arrayBuffer());
+}
+
+const harness: PoolHarness = {
+  size: pool.size,
+  started: () => pool.started,
+  async both(name, options = {}, split = 'auto') {
+    const bytes = await fetchWav(name);
+    return { single: analyzeWavBytes(bytes, options), pooled: await pool.analyse(bytes, options, { split }) };
+  },
+  async failure(name, split = 'auto') {
+    const bytes = await fetchWav(name);
+    try {
+      await pool.analyse(bytes, {}, { split });
+      return null;
+    } catch (err) {
+      const e = err as Error & { code?: string };
+      return { name: e.name, message: e.message, code: e.code ?? null };
+    }
+  },
+  async time(name, way, runs) {
+    const bytes = await fetchWav(name);
+    const ms: number[] = [];
+    for (let i = 0; i < runs; i++) {
+      const t0 = performance.now();
+      if (way === 'single') analyzeWavBytes(bytes);
+      else await pool.analyse(bytes, {}, { split: way });
+      ms.push(performance.now() - t0);
+    }
+    return ms;
+  },
+};
+
+(globalThis as unknown as { poolHarness: PoolHarness }).poolHarness = harness;
+document.getElementById('state')!.textContent = 'ready';
