@@ -17,4 +17,6 @@ export interface PoolHarness {
   failure(name: string, split?: SplitChoice): Promise<PoolFailure | null>;
   /** Milliseconds of each of `runs` analyses of the file on this thread ('single') or in the pool. */
   time(name: string, way: 'single' | SplitChoice, runs: number): Promise<number[]>;
+  /** The same from inside a worker, as the live bench measures: in that worker, or by a pool nested in it. */
+  timeNested(name: string, runs: number): Promise<{ inWorker: number[]; oneNested: number[]; splitNested: number[] }>;
 }

@@ -1,6 +1,7 @@
 import { analyzeWavBytes } from '../../../analysis/index';
 import { AnalysisPool } from '../../../web/src/workers/analysis-pool';
 import type { PoolHarness } from './harness';
+import type { NestedTask, NestedTimes } from './nested.worker';
 
 // A bare page for checking and timing the browser's analysis pool in Chromium: it analyses WAV
 // files served beside it through the pool and through one analyzeWavBytes on this thread.
@@ -41,6 +42,19 @@ const harness: PoolHarness = {
       ms.push(performance.now() - t0);
     }
     return ms;
+  },
+  async timeNested(name, runs) {
+    const bytes = await fetchWav(name);
+    const worker = new Worker(new URL('./nested.worker.ts', import.meta.url), { type: 'module' });
+    try {
+      return await new Promise<NestedTimes>((resolve, reject) => {
+        worker.onmessage = (e: MessageEvent<NestedTimes>) => resolve(e.data);
+        worker.onerror = (e) => reject(new Error(e.message));
+        worker.postMessage({ bytes, runs } satisfies NestedTask);
+      });
+    } finally {
+      worker.terminate();
+    }
   },
 };
 
