@@ -48,6 +48,11 @@ beforeAll(async () => {
   execFileSync('sox', ['-n', '-r', '48000', '-b', '24', '-c', '6', join(dir, 'six-sox.wav'), 'synth', '3', 'sine', '997', 'sine', '440', 'sine', '2000', 'sine', '100', 'sine', '5000', 'sine', '60', 'gain', '-20']);
   // The header still declares every sample; the file ends 6000 bytes early.
   writeFileSync(join(dir, 'cut.wav'), stereo.subarray(0, stereo.length - 6000));
+  // A float file with a NaN at frame 100 of channel 1: only the worker given channel 1 meets it,
+  // if the engine looked at its own channels alone.
+  const f32 = encodeWav(generateSine({ sampleRate: FS, frequencyHz: 997, levelDbfs: -10, seconds: 3, channels: 2 }), FS, 'float32');
+  new DataView(f32.buffer).setFloat32(readWavInfo(f32).dataOffset + (100 * 2 + 1) * 4, Number.NaN, true);
+  writeFileSync(join(dir, 'nan.wav'), f32);
   writeFileSync(join(dir, 'short.wav'), encodeWav(generateSine({ sampleRate: FS, frequencyHz: 997, levelDbfs: -20, seconds: 1, channels: 2 }), FS, 24));
   site = await startPoolPage(join(dir, 'page'), dir);
   browser = await launchChromium(chromium);
@@ -111,31 +116,34 @@ describe('the analysis pool in Chromium gives the one-thread result field by fie
   }
 });
 
-describe('a worker that fails', () => {
-  it('a truncated file: the engine\'s own error comes back, the failed workers are replaced, and the pool still works', { timeout: 120_000 }, async () => {
-    const page = await open(2);
-    const bytes = new Uint8Array(readFileSync(join(dir, 'cut.wav')));
-    // The header is sound (so the pool splits the file); the samples end early.
-    expect(readWavInfo(bytes).channels).toBe(2);
-    const expected = (() => {
-      try {
-        analyzeWavBytes(bytes);
-      } catch (err) {
-        const e = err as Error & { code?: string };
-        return { name: e.name, message: e.message, code: e.code ?? null } satisfies PoolFailure;
-      }
-      throw new Error('analyzeWavBytes accepted a truncated file');
-    })();
-    expect(expected).toMatchObject({ name: 'WavFormatError', code: 'truncated' });
+/** What analyzeWavBytes throws for the file, as the harness reports a pool's error. */
+function singleThreadError(name: string): PoolFailure {
+  try {
+    analyzeWavBytes(new Uint8Array(readFileSync(join(dir, name))));
+  } catch (err) {
+    const e = err as Error & { code?: string };
+    return { name: e.name, message: e.message, code: e.code ?? null };
+  }
+  throw new Error(`analyzeWavBytes accepted ${name}`);
+}
 
-    for (const split of ['always', 'never'] as const) {
-      expect(await failure(page, 'cut.wav', split)).toEqual(expected);
-      const after = await started(page);
-      // The next file (split across both workers) is measured right, by a new worker in place of
-      // each failed one: two when the bad file was split, one when one worker had it whole.
-      const good = await both(page, 'stereo-clicks.wav');
-      expect(good.pooled).toStrictEqual(good.single);
-      expect(await started(page)).toBe(after + (split === 'always' ? 2 : 1));
+describe('a worker that fails', () => {
+  it('a truncated file and a NaN sample: the engine\'s own error comes back, the failed workers are replaced, and the pool still works', { timeout: 120_000 }, async () => {
+    const page = await open(2);
+    // Both headers are sound, so the pool splits the files; the samples are what is wrong.
+    expect(singleThreadError('cut.wav')).toMatchObject({ name: 'WavFormatError', code: 'truncated' });
+    expect(singleThreadError('nan.wav')).toMatchObject({ name: 'WavFormatError', code: 'non-finite-sample', message: expect.stringMatching(/frame 100 .*channel 1/) });
+
+    for (const name of ['cut.wav', 'nan.wav']) {
+      for (const split of ['always', 'never'] as const) {
+        expect(await failure(page, name, split), `${name}, split ${split}`).toEqual(singleThreadError(name));
+        const after = await started(page);
+        // The next file (split across both workers) is measured right, by a new worker in place of
+        // each failed one: two when the bad file was split, one when one worker had it whole.
+        const good = await both(page, 'stereo-clicks.wav');
+        expect(good.pooled).toStrictEqual(good.single);
+        expect(await started(page)).toBe(after + (split === 'always' ? 2 : 1));
+      }
     }
     await page.close();
   });
