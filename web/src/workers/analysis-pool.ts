@@ -60,11 +60,15 @@ export class AnalysisPool {
   private readonly running = new Map<Worker, Job>();
   private readonly queue: Job[] = [];
   private disposed = false;
-  /** Workers started so far (a failed worker's replacement counts too). */
-  started = 0;
+  private startedCount = 0;
 
   constructor(size: number = poolSize()) {
     this.size = Math.max(1, Math.floor(size));
+  }
+
+  /** Workers started so far (a failed worker's replacement counts too). */
+  get started(): number {
+    return this.startedCount;
   }
 
   /** Analyses a whole WAV file; the result equals analyzeWavBytes(bytes, options) field by field. */
@@ -119,7 +123,7 @@ export class AnalysisPool {
   }
 
   private spawn(): Worker {
-    this.started++;
+    this.startedCount++;
     return new Worker(new URL('./channel-share.worker.ts', import.meta.url), { type: 'module' });
   }
 
