@@ -31,8 +31,8 @@ export const MAX_POOL_WORKERS = 4;
  * costs a message per worker and the join on the calling thread (3–15 ms in Node: the figures
  * across channels). Below about 2 s of 48 kHz stereo the saving would be a few ms, partly paid for on
  * the page's own thread. `npm run bench:browser` times both ways; on the shared 2-core machine
- * this was written on (load average about 5) no length gave a steady gain — split ÷ one worker
- * ranged 0.65–1.3 from 0.5 s to 10 s — so this is the estimate above, not a measured crossing.
+ * this was written on (load average 5–7) no length gave a steady gain — split ÷ one worker
+ * ranged 0.6–1.5 over 0.5–10 s in three runs — so this is the estimate above, not a measured crossing.
  */
 export const SPLIT_BREAK_EVEN_SAMPLES = 2 * 48_000 * 2;
 
