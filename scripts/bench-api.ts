@@ -347,6 +347,8 @@ async function main() {
       FILES_DIR: join(dataDir, 'files'),
     });
     base = server.url;
+    // A server is up long before its first capture: its engine warm-up is not part of any round.
+    await server.analysisWarmedUp;
     stop = async () => {
       await server.close();
       await pool.end();

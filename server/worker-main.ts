@@ -17,6 +17,8 @@ const envSchema = z
     /** As for the server: an analysis running longer is taken as lost and run again. */
     ANALYSIS_EXPIRE_SECONDS: z.coerce.number().int().min(1).max(86_400).optional(),
     QUEUE_MAINTENANCE_SECONDS: z.coerce.number().int().min(1).max(3600).optional(),
+    /** As for the server: seconds of synthetic capture analysed at start-up to warm the engine (0: none). */
+    ANALYSIS_WARM_UP_SECONDS: z.coerce.number().min(0).max(60).default(10),
   })
   .superRefine(checkStorageEnv);
 
@@ -34,7 +36,7 @@ async function main() {
     expireSeconds: env.ANALYSIS_EXPIRE_SECONDS,
     maintenanceSeconds: env.QUEUE_MAINTENANCE_SECONDS,
   });
-  const worker = await startAnalysisWorker({ queue, db, store, log: (m) => console.error(m) });
+  const worker = await startAnalysisWorker({ queue, db, store, warmUpSeconds: env.ANALYSIS_WARM_UP_SECONDS, log: (m) => console.error(m) });
   console.log('Analysis worker running; Ctrl+C to stop.');
   let stopping = false;
   const stop = async () => {

@@ -51,10 +51,11 @@ export async function analyseCapture(db: Db, store: FileStore, captureId: number
   }
 
   try {
-    // A long capture on this node's disk is measured in worker threads, all of them, so this
-    // process's event loop (the HTTP requests, in the server) stays free; a short one is measured
-    // here in small reads (requests wait between chunks). A capture in a bucket is streamed from
-    // the store here: never the whole file in memory.
+    // A capture on this node's disk is measured in worker threads, so this process's event loop
+    // (the HTTP requests, in the server) stays free: the threads warmed up at start take any
+    // length, new ones are started only for a long capture (see THREAD_BREAK_EVEN_SAMPLES); a
+    // short one without warm threads is measured here in small reads (requests wait between
+    // chunks). A capture in a bucket is streamed from the store here: never the whole file in memory.
     const localPath = store.localPath(captureKey(capture.sha256));
     const raw = localPath
       ? await analyzeFileInThreads(localPath, options, { shareCallingThread: false, chunkBytes: 256 * 1024, keepThreads: true })

@@ -7,7 +7,8 @@ import { readFileChunks } from './file-chunks';
 // (channel-threads.ts starts it). Errors go back as plain data, so the caller can rebuild them.
 
 export interface ThreadTask {
-  path: string;
+  /** A stored file, or a capture held in memory (the synthetic one that warms a thread up). */
+  source: { path: string } | { bytes: Uint8Array };
   options: AnalyzeOptions;
   channels: number[];
 }
@@ -19,8 +20,14 @@ export type ThreadReply =
 /** Measures one share; used by the thread below and, for its own share, by the calling thread. */
 export async function measureShare(task: ThreadTask): Promise<ChannelShare> {
   const analyzer = new CaptureAnalyzer(task.options, task.channels);
-  for await (const chunk of readFileChunks(task.path)) analyzer.push(chunk);
+  const chunks = 'path' in task.source ? readFileChunks(task.source.path) : bytesInChunks(task.source.bytes);
+  for await (const chunk of chunks) analyzer.push(chunk);
   return analyzer.finishShare();
+}
+
+/** A capture in memory, handed out in read-sized pieces as a file would be. */
+export function* bytesInChunks(bytes: Uint8Array, chunkBytes = 1 << 20): Generator<Uint8Array> {
+  for (let at = 0; at < bytes.length; at += chunkBytes) yield bytes.subarray(at, at + chunkBytes);
 }
 
 if (parentPort && (workerData as { channelThread?: boolean } | null)?.channelThread) {

@@ -9,8 +9,12 @@ import {
   AnalyzeOptionsError,
   analyzeWavStream,
   channelGroups,
+  encodeWav,
   ENGINE_VERSION,
+  generateNoise,
+  generateSine,
   MAX_HEADER_BYTES,
+  mixInto,
   parseAnalyzeOptions,
   resultFromShares,
   WavFormatError,
@@ -20,7 +24,7 @@ import {
   type WavErrorCode,
 } from '../../analysis/index';
 import { parseWavHeader } from '../../analysis/wav-header';
-import { measureShare, type ThreadReply, type ThreadTask } from './channel-thread';
+import { bytesInChunks, measureShare, type ThreadReply, type ThreadTask } from './channel-thread';
 import { readFileChunks } from './file-chunks';
 
 // A capture's analysis split across worker threads by channel (analysis/channel-split.ts says why
@@ -58,10 +62,16 @@ export interface ThreadOptions {
 }
 
 let liveThreads = 0;
+let threadTasks = 0;
 
 /** Analysis threads running now in this process (for tests and for shutting down cleanly). */
 export function activeAnalysisThreads(): number {
   return liveThreads;
+}
+
+/** Shares of captures measured on analysis threads so far in this process (tests: which way a capture went). */
+export function analysisThreadTasks(): number {
+  return threadTasks;
 }
 
 let threadCode: Promise<URL> | null = null;
@@ -129,20 +139,22 @@ interface Thread {
   gone: Promise<void>;
   exited: boolean;
   idleTimer: NodeJS.Timeout | null;
+  /** Started by warmAnalysis: kept, warm, until endIdleAnalysisThreads rather than for IDLE_MS. */
+  pinned: boolean;
 }
 
 const idle: Thread[] = [];
 /** A kept thread idle this long ends: a server between captures holds no threads for long. */
 const IDLE_MS = 30_000;
 
-function spawn(code: URL): Thread {
+function spawn(code: URL, pinned = false): Thread {
   const worker = new Worker(code, {
     workerData: { channelThread: true },
     // Plain JavaScript: none of the parent's loader flags (a test runner's, for one).
     execArgv: [],
   });
   liveThreads++;
-  const thread: Thread = { worker, gone: Promise.resolve(), exited: false, idleTimer: null };
+  const thread: Thread = { worker, gone: Promise.resolve(), exited: false, idleTimer: null, pinned };
   thread.gone = new Promise<void>((resolve) =>
     worker.once('exit', () => {
       thread.exited = true;
@@ -168,8 +180,10 @@ function take(code: URL): Thread {
 function keep(t: Thread): void {
   if (t.exited) return;
   t.worker.unref();
-  t.idleTimer = setTimeout(() => void stop(t), IDLE_MS);
-  t.idleTimer.unref();
+  if (!t.pinned) {
+    t.idleTimer = setTimeout(() => void stop(t), IDLE_MS);
+    t.idleTimer.unref();
+  }
   idle.push(t);
 }
 
@@ -206,6 +220,7 @@ function run(t: Thread, task: ThreadTask): Promise<ChannelShare> {
     w.on('message', onMessage);
     w.on('error', onError);
     w.on('exit', onExit);
+    threadTasks++;
     w.postMessage(task);
   });
 }
@@ -233,13 +248,19 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
   const parsed = parseAnalyzeOptions(options);
   const threads = Math.max(1, Math.floor(how.threads ?? availableParallelism()));
   const info = parseWavHeader(await readHead(path));
-  const worth = info !== null && (how.ignoreBreakEven || info.frames * info.channels >= THREAD_BREAK_EVEN_SAMPLES);
-  if (!info || !worth || threads < 2 || info.channels < 2) return analyzeWavStream(readFileChunks(path, how.chunkBytes), parsed);
+  const inCallingThread = () => analyzeWavStream(readFileChunks(path, how.chunkBytes), parsed);
+  if (!info || threads < 2 || info.channels < 2) return inCallingThread();
 
   const shareCalling = how.shareCallingThread ?? true;
   const groups = channelGroups(info.channels, threads);
-  const tasks: ThreadTask[] = groups.map((channels) => ({ path, options: parsed, channels }));
+  const tasks: ThreadTask[] = groups.map((channels) => ({ source: { path }, options: parsed, channels }));
   const own = shareCalling ? tasks.shift()! : null;
+  // Threads already running and warm cost nothing to start: they pay on any length (see
+  // WARM_THREADS_NOTE); the break-even is for threads that must be started.
+  const warmAndFree = how.keepThreads === true && idle.length >= tasks.length;
+  const worth = how.ignoreBreakEven || warmAndFree || info.frames * info.channels >= THREAD_BREAK_EVEN_SAMPLES;
+  if (!worth) return inCallingThread();
+
   const code = await threadModule();
   const running = tasks.map(() => take(code));
   let ok = false;
@@ -252,4 +273,62 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
     if (ok && how.keepThreads) running.forEach(keep);
     else await Promise.all(running.map(stop));
   }
+}
+
+/**
+ * WARM_THREADS_NOTE — measured with `npm run bench:api -- --upload-to-result` on this 2-core
+ * machine (shared, load 1–4): a server's first captures ran 1.5–2.5× slower than later ones (V8
+ * compiles the engine's loops as they get hot, in each thread anew), and a 60 s 96 kHz stereo
+ * capture measured in the server's own thread took 0.34–0.47 s against 0.20–0.30 s for the
+ * same call in a quiet process, the rest going to the HTTP requests served between its reads.
+ * Two warm threads measure it in 0.15–0.3 s (each reads and decodes the file, and measures one
+ * channel) and leave the event loop alone; the database work around the analysis is 20–30 ms.
+ */
+
+export interface WarmUp {
+  /** Threads started and warmed (0: the calling thread only). */
+  threads: number;
+  ms: number;
+}
+
+/**
+ * Readies this process for the analyses to come, off any request's path: starts `threads`
+ * analysis threads (kept, idle, until endIdleAnalysisThreads) and runs a synthetic capture of
+ * `seconds` through each of them and through the calling thread, so the engine's hot loops are
+ * compiled before the first real capture. The calling thread's pass yields between chunks so a
+ * server's requests go on meanwhile. Two idle warm threads hold about 100 MB between them.
+ */
+export async function warmAnalysis(o: { seconds: number; threads?: number }): Promise<WarmUp> {
+  const started = performance.now();
+  const sampleRate = 96_000;
+  // A −10 dBFS tone in channel 0 over −100 dBFS noise in both: the tone, noise and crosstalk paths all run.
+  const channels = generateSine({ sampleRate, frequencyHz: 997, levelDbfs: -10, seconds: o.seconds, channels: 2, drivenChannels: [0] });
+  const noise = generateNoise({ sampleRate, levelDbfs: -100, seconds: o.seconds, channels: 2, seed: 5 });
+  channels.forEach((c, i) => mixInto(c, noise[i]!));
+  const bytes = encodeWav(channels, sampleRate, 24);
+  const options = parseAnalyzeOptions({ stimulus: 'tone' });
+  const threads = Math.max(0, Math.floor(o.threads ?? Math.min(2, availableParallelism())));
+  let warmed = 0;
+  if (threads >= 2) {
+    const code = await threadModule();
+    const fresh = Array.from({ length: threads }, () => spawn(code, true));
+    let ok = false;
+    try {
+      const groups = channelGroups(2, threads);
+      await Promise.all(fresh.map((t, i) => run(t, { source: { bytes }, options, channels: groups[i % groups.length]! })));
+      ok = true;
+      warmed = fresh.length;
+    } finally {
+      if (ok) fresh.forEach(keep);
+      else await Promise.all(fresh.map(stop));
+    }
+  }
+  async function* yielding(): AsyncGenerator<Uint8Array> {
+    for (const chunk of bytesInChunks(bytes, 256 * 1024)) {
+      await new Promise((resolve) => setImmediate(resolve));
+      yield chunk;
+    }
+  }
+  await analyzeWavStream(yielding(), options);
+  return { threads: warmed, ms: performance.now() - started };
 }
