@@ -289,6 +289,8 @@ export interface WarmUp {
   /** Threads started and warmed (0: the calling thread only). */
   threads: number;
   ms: number;
+  /** The synthetic capture's result, for warming what the caller does with results. */
+  result: AnalysisResult;
 }
 
 /**
@@ -329,6 +331,6 @@ export async function warmAnalysis(o: { seconds: number; threads?: number }): Pr
       yield chunk;
     }
   }
-  await analyzeWavStream(yielding(), options);
-  return { threads: warmed, ms: performance.now() - started };
+  const result = await analyzeWavStream(yielding(), options);
+  return { threads: warmed, ms: performance.now() - started, result };
 }
