@@ -270,8 +270,10 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
     return resultFromShares({ engineVersion: ENGINE_VERSION, info, options: parsed, shares: parts });
   } finally {
     // When this returns every thread has ended, or (keepThreads, after a success) waits idle.
-    if (ok && how.keepThreads) running.forEach(keep);
-    else await Promise.all(running.map(stop));
+    // A warmed-up thread goes back after a success whoever borrowed it: it is the process's.
+    const back = running.filter((t) => ok && (how.keepThreads || t.pinned));
+    back.forEach(keep);
+    await Promise.all(running.filter((t) => !back.includes(t)).map(stop));
   }
 }
 

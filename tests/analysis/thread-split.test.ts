@@ -147,11 +147,17 @@ describe('threads warmed up at start', () => {
     expect(activeAnalysisThreads()).toBe(2);
     expect(result).toStrictEqual(analyzeWavBytes(bytes));
     expect(result.channels[1]!.clicks.count).toBe(1);
-    // Without kept threads to reuse, the same short capture stays in the calling thread.
-    const alone = analysisThreadTasks();
-    expect(await analyzeFileInThreads(path, {}, { threads: 2, shareCallingThread: false })).toStrictEqual(result);
-    expect(analysisThreadTasks()).toBe(alone);
+    // A caller that keeps no threads may use them, but they stay.
+    const borrowed = analysisThreadTasks();
+    expect(await analyzeFileInThreads(path, {}, { threads: 2, shareCallingThread: false, ignoreBreakEven: true })).toStrictEqual(result);
+    expect(analysisThreadTasks() - borrowed).toBe(2);
+    expect(activeAnalysisThreads()).toBe(2);
     await endIdleAnalysisThreads();
+    expect(activeAnalysisThreads()).toBe(0);
+    // Without warm threads to reuse, the same short capture stays in the calling thread.
+    const alone = analysisThreadTasks();
+    expect(await analyzeFileInThreads(path, {}, server)).toStrictEqual(result);
+    expect(analysisThreadTasks()).toBe(alone);
     expect(activeAnalysisThreads()).toBe(0);
   });
 });
