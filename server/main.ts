@@ -18,8 +18,8 @@ export interface RunningServer {
   app: Express;
   /** The local payment stand-in's address, or null when a real provider is configured. */
   paymentApiUrl: string | null;
-  /** Settles once this server's analysis worker has warmed up (at once without a worker). */
-  analysisWarmedUp: Promise<void>;
+  /** Settles once this server's analysis worker has warmed up (at once without a worker); see AnalysisWorker. */
+  analysisWarmedUp: Promise<boolean>;
   close(): Promise<void>;
 }
 
@@ -62,7 +62,7 @@ export async function startServer(env: Record<string, string | undefined> = proc
     url: `http://${config.HOST}:${port}`,
     app,
     paymentApiUrl: billing.local.paymentApiUrl,
-    analysisWarmedUp: worker?.warmedUp ?? Promise.resolve(),
+    analysisWarmedUp: worker?.warmedUp ?? Promise.resolve(true),
     close: async () => {
       await new Promise<void>((resolve) => server.close(() => resolve()));
       server.closeAllConnections();

@@ -37,7 +37,6 @@ async function main() {
     maintenanceSeconds: env.QUEUE_MAINTENANCE_SECONDS,
   });
   const worker = await startAnalysisWorker({ queue, db, store, warmUpSeconds: env.ANALYSIS_WARM_UP_SECONDS, log: (m) => console.error(m) });
-  console.log('Analysis worker running; Ctrl+C to stop.');
   let stopping = false;
   const stop = async () => {
     if (stopping) return;
@@ -49,6 +48,10 @@ async function main() {
   };
   process.on('SIGINT', stop);
   process.on('SIGTERM', stop);
+  // "Running" once jobs are being taken, after the engine's warm-up: whoever waits for this line
+  // (a supervisor, a benchmark) sees the worker at full speed.
+  if (!(await worker.warmedUp)) throw new Error('it could not start taking jobs from the queue');
+  if (!stopping) console.log('Analysis worker running; Ctrl+C to stop.');
 }
 
 main().catch((err) => {

@@ -10,8 +10,11 @@ import type { FileStore } from '../storage/file-store';
 // captures that are waiting with no job behind them (demo data, a job lost with a killed worker).
 
 export interface AnalysisWorker {
-  /** Settles once the start-up warm-up is over and jobs are being taken (a failed warm-up is only logged). */
-  warmedUp: Promise<void>;
+  /**
+   * Settles once the start-up warm-up is over (a failed warm-up is only logged): true when jobs
+   * are being taken, false when taking them could not start (logged too).
+   */
+  warmedUp: Promise<boolean>;
   stop(): Promise<void>;
 }
 
@@ -75,8 +78,8 @@ export async function startAnalysisWorker(options: WorkerOptions): Promise<Analy
   timer.unref();
   return {
     warmedUp: taking.then(
-      () => undefined,
-      () => undefined,
+      () => workerId !== null || stopped,
+      () => false,
     ),
     async stop() {
       stopped = true;
