@@ -262,6 +262,7 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
   if (!worth) return inCallingThread();
 
   const code = await threadModule();
+  const pooled = idle.slice(-tasks.length);
   const running = tasks.map(() => take(code));
   let ok = false;
   try {
@@ -270,8 +271,9 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
     return resultFromShares({ engineVersion: ENGINE_VERSION, info, options: parsed, shares: parts });
   } finally {
     // When this returns every thread has ended, or (keepThreads, after a success) waits idle.
-    // A warmed-up thread goes back after a success whoever borrowed it: it is the process's.
-    const back = running.filter((t) => ok && (how.keepThreads || t.pinned));
+    // A thread taken from the idle ones goes back after a success whoever borrowed it: another
+    // caller kept it (a server's, warmed up at start), and ending it would undo that.
+    const back = running.filter((t) => ok && (how.keepThreads || pooled.includes(t)));
     back.forEach(keep);
     await Promise.all(running.filter((t) => !back.includes(t)).map(stop));
   }

@@ -122,6 +122,9 @@ describe('kept threads', () => {
     // The same three threads, not three more.
     expect(activeAnalysisThreads()).toBe(3);
     expect(second).toStrictEqual(first);
+    // A caller that keeps none borrows them and leaves them kept.
+    expect(await analyzeFileInThreads(path, {}, { ...how, keepThreads: false })).toStrictEqual(first);
+    expect(activeAnalysisThreads()).toBe(3);
     expect(first).toStrictEqual(analyzeWavBytes(bytes));
     await endIdleAnalysisThreads();
     expect(activeAnalysisThreads()).toBe(0);
@@ -147,7 +150,7 @@ describe('threads warmed up at start', () => {
     expect(activeAnalysisThreads()).toBe(2);
     expect(result).toStrictEqual(analyzeWavBytes(bytes));
     expect(result.channels[1]!.clicks.count).toBe(1);
-    // A caller that keeps no threads may use them, but they stay.
+    // A caller that keeps no threads may use them, but they stay, warm.
     const borrowed = analysisThreadTasks();
     expect(await analyzeFileInThreads(path, {}, { threads: 2, shareCallingThread: false, ignoreBreakEven: true })).toStrictEqual(result);
     expect(analysisThreadTasks() - borrowed).toBe(2);
