@@ -348,6 +348,8 @@ async function main() {
       PORT: '0',
       SESSION_SECRET: 'bench-secret-bench-secret-bench-secret',
       FILES_DIR: join(dataDir, 'files'),
+      // ANALYSIS_WARM_UP_SECONDS=0 shows the server without its start-up warm-up, for comparison.
+      ...(process.env.ANALYSIS_WARM_UP_SECONDS ? { ANALYSIS_WARM_UP_SECONDS: process.env.ANALYSIS_WARM_UP_SECONDS } : {}),
     });
     base = server.url;
     // A server is up long before its first capture: its engine warm-up is not part of any round.
