@@ -18,6 +18,8 @@
  *     is seen running) and analysis (until its result is readable); p50 and max. Compared with
  *     the same file's analysis in-process as the command line runs it (once after each round, so
  *     each pair meets the same load), the target is p50 total ≤ 1.5 × CLI p50 + upload p50.
+ *     Where the server's time went, and what changed: WARM_THREADS_PAY_ANY_LENGTH in
+ *     server/worker/channel-threads.ts.
  *  `--upload-to-result` runs part 5 only.
  */
 import { execFile, execFileSync } from 'node:child_process';

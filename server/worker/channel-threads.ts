@@ -41,6 +41,26 @@ import { readFileChunks } from './file-chunks';
  */
 export const THREAD_BREAK_EVEN_SAMPLES = 2 * 96_000 * 180;
 
+/*
+ * WARM_THREADS_PAY_ANY_LENGTH. Threads a server warmed up at start (warmAnalysis) take captures of
+ * any length. Measured on this shared 2-core machine (load 2.5–6) with `npm run bench:api --
+ * --upload-to-result`, a 60 s 96 kHz 24-bit stereo capture, whose analysis the server used to run
+ * in its own thread in 256 kB reads:
+ *  - the database and queue work around the analysis is small: the job is fetched 25–60 ms after
+ *    the upload's transaction began (7–40 ms after its response), the capture row read and marked
+ *    running in 5–15 ms, the result checked (zod) in 3–5 ms (20–30 ms cold), stored in 10–40 ms
+ *    (107 kB of JSON), and read back through the API in 4–8 ms;
+ *  - the time went to the engine: its first capture in a new process took 1.5–2.5× the CPU of
+ *    later ones (V8 compiles the hot loops as they run, in every thread anew), and in the server's
+ *    own thread it shared the event loop with the HTTP requests served between its reads
+ *    (0.34–0.47 s against 0.20–0.30 s in a quiet process; the read size made no difference);
+ *  - a 10 s synthetic capture at start-up (about 1.3 s of CPU, off any request's path) brings the
+ *    first capture to within 1.3× of a warm one, and two warm threads (each reads and decodes the
+ *    file and measures one channel: about 20 % more CPU in all) take 0.13–0.25 s at load 2.5.
+ * Per round, (queue wait + analysis) / the command line's analysis of the same file went from a
+ * median of about 1.45 without the warm-up to about 1.05 with it (60 s capture, two runs each).
+ */
+
 export interface ThreadOptions {
   /** Threads to use in all (default: the machine's cores). 1 analyses in the calling thread. */
   threads?: number;
@@ -256,7 +276,7 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
   const tasks: ThreadTask[] = groups.map((channels) => ({ source: { path }, options: parsed, channels }));
   const own = shareCalling ? tasks.shift()! : null;
   // Threads already running and warm cost nothing to start: they pay on any length (see
-  // WARM_THREADS_NOTE); the break-even is for threads that must be started.
+  // WARM_THREADS_PAY_ANY_LENGTH); the break-even is for threads that must be started.
   const warmAndFree = how.keepThreads === true && idle.length >= tasks.length;
   const worth = how.ignoreBreakEven || warmAndFree || info.frames * info.channels >= THREAD_BREAK_EVEN_SAMPLES;
   if (!worth) return inCallingThread();
@@ -278,16 +298,6 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
     await Promise.all(running.filter((t) => !back.includes(t)).map(stop));
   }
 }
-
-/**
- * WARM_THREADS_NOTE — measured with `npm run bench:api -- --upload-to-result` on this 2-core
- * machine (shared, load 1–4): a server's first captures ran 1.5–2.5× slower than later ones (V8
- * compiles the engine's loops as they get hot, in each thread anew), and a 60 s 96 kHz stereo
- * capture measured in the server's own thread took 0.34–0.47 s against 0.20–0.30 s for the
- * same call in a quiet process, the rest going to the HTTP requests served between its reads.
- * Two warm threads measure it in 0.15–0.3 s (each reads and decodes the file, and measures one
- * channel) and leave the event loop alone; the database work around the analysis is 20–30 ms.
- */
 
 export interface WarmUp {
   /** Threads started and warmed (0: the calling thread only). */
