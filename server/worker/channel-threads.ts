@@ -30,7 +30,7 @@ import { readFileChunks } from './file-chunks';
 // A capture's analysis split across worker threads by channel (analysis/channel-split.ts says why
 // by channel): each thread reads the file and measures its channels; the parts are joined into
 // the result one thread would give, number for number. Mono captures, and captures too short to
-// repay starting a thread, are analysed in the calling thread.
+// repay starting a thread (when no warm one is idle), are analysed in the calling thread.
 
 /**
  * Below this many samples (frames × channels) one thread is quicker. The pass costs about 2.5 ms
@@ -75,8 +75,9 @@ export interface ThreadOptions {
   chunkBytes?: number;
   /**
    * Keep the threads, idle, for the next analysis (a server: a warm thread skips start-up and
-   * compiling). They end after 30 s unused and never keep the process alive. Threads that
-   * failed are never kept.
+   * compiling), and use idle ones whatever the capture's length. They end after 30 s unused
+   * (those warmAnalysis started stay) and never keep the process alive. Threads that failed
+   * are never kept.
    */
   keepThreads?: boolean;
 }
