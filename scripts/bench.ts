@@ -7,8 +7,8 @@
 // (server/worker/channel-threads.ts), two ways:
 //   cold — a fresh process, as `npm run analyze` runs: thread start-up, compiling and the FFT
 //          tables are all in the time;
-//   warm — as the server's queue worker runs: its threads are kept between captures, so the
-//          child first analyses a 10-second capture, then the timed one on the same threads.
+//   warm — as the server's queue worker runs: it warms its threads at start (warmAnalysis, the
+//          same call and length the server makes), then the timed capture goes to them.
 // Targets: analysis on all cores ≤ 1.0× sox time on the 5-minute file (best of 3), peak RSS ≤
 // 200 MB, and the same results with 1 and N threads, cold and warm.
 import { spawnSync } from 'node:child_process';
@@ -17,7 +17,7 @@ import { availableParallelism, loadavg } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { encodeSamples, encodeWavHeader, seededGaussian, seededRandom } from '../analysis/index';
-import { analyzeFileInThreads, endIdleAnalysisThreads } from '../server/worker/channel-threads';
+import { analyzeFileInThreads, endIdleAnalysisThreads, warmAnalysis } from '../server/worker/channel-threads';
 
 const FS = 96_000;
 const DIR = join(import.meta.dirname, '..', 'bench-data');
@@ -85,13 +85,13 @@ interface ChildReport {
   json: string;
 }
 
-/** The warm-up capture of a warm run: long enough to start the threads and compile the engine. */
+/** The server's default warm-up length (ANALYSIS_WARM_UP_SECONDS). */
 const WARM_UP_SECONDS = 10;
 
 async function child(path: string, threads: number, ignoreBreakEven: boolean, warm: boolean): Promise<void> {
   // Warm: the server's way (analyse-capture.ts) — threads kept, the calling thread only waits.
   const how = warm ? { threads, ignoreBreakEven, keepThreads: true, shareCallingThread: threads < 2 } : { threads, ignoreBreakEven };
-  if (warm) await analyzeFileInThreads(join(DIR, `capture-${WARM_UP_SECONDS}s-96k-24bit-stereo.wav`), {}, { ...how, ignoreBreakEven: true });
+  if (warm) await warmAnalysis({ seconds: WARM_UP_SECONDS, threads: threads >= 2 ? threads : 0 });
   const t0 = performance.now();
   const cpu0 = process.cpuUsage();
   // Cold: thread start-up (the bundle, the threads) is counted: a command-line run pays it every time.
@@ -161,8 +161,6 @@ async function main(): Promise<number> {
     breakEven();
     return 0;
   }
-  const warmUp = join(DIR, `capture-${WARM_UP_SECONDS}s-96k-24bit-stereo.wav`);
-  if (!existsSync(warmUp)) makeCapture(warmUp, WARM_UP_SECONDS / 60);
   let ok = true;
   for (const minutes of [5, 20]) {
     const path = benchFile(minutes);

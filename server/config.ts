@@ -17,6 +17,8 @@ const configSchema = z.object({
   NODE_ENV: z.enum(['development', 'production', 'test']).default('development'),
   /** Run the capture-analysis worker inside this server process (off: upload and queue only). */
   WORKER: z.enum(['on', 'off']).default('on'),
+  /** Seconds of synthetic capture the worker analyses at start-up to warm the engine (0: none); see analysis-worker.ts. */
+  ANALYSIS_WARM_UP_SECONDS: z.coerce.number().min(0).max(60).default(10),
   /** Largest capture file accepted, in megabytes (10^6 bytes). */
   UPLOAD_MAX_MB: z.coerce.number().positive().max(4096).default(200),
   /** An analysis running longer than this is taken as lost with its worker and run again. */

@@ -18,6 +18,8 @@ export interface RunningServer {
   app: Express;
   /** The local payment stand-in's address, or null when a real provider is configured. */
   paymentApiUrl: string | null;
+  /** Settles once this server's analysis worker has warmed up (at once without a worker); see AnalysisWorker. */
+  analysisWarmedUp: Promise<boolean>;
   close(): Promise<void>;
 }
 
@@ -45,7 +47,7 @@ export async function startServer(env: Record<string, string | undefined> = proc
     expireSeconds: config.ANALYSIS_EXPIRE_SECONDS,
     maintenanceSeconds: config.QUEUE_MAINTENANCE_SECONDS,
   });
-  const worker = config.WORKER === 'on' ? await startAnalysisWorker({ queue, db, store }) : null;
+  const worker = config.WORKER === 'on' ? await startAnalysisWorker({ queue, db, store, warmUpSeconds: config.ANALYSIS_WARM_UP_SECONDS }) : null;
   const billing = await startBilling(config, db);
   const signedIn = new SignedInCache(config.SIGNED_IN_CACHE_MS);
   const sharing = config.SIGNED_IN_CACHE_MS > 0 ? await shareSignedInChanges(config.DATABASE_URL, pool, signedIn) : null;
@@ -60,6 +62,7 @@ export async function startServer(env: Record<string, string | undefined> = proc
     url: `http://${config.HOST}:${port}`,
     app,
     paymentApiUrl: billing.local.paymentApiUrl,
+    analysisWarmedUp: worker?.warmedUp ?? Promise.resolve(true),
     close: async () => {
       await new Promise<void>((resolve) => server.close(() => resolve()));
       server.closeAllConnections();

@@ -91,7 +91,7 @@ export function captureRoutes(db: Db, config: Config, queue: AnalysisQueue, stor
     res.json(await svc.getCapture(db, shopOf(req), idParam(req.params.id, 'Capture')));
   });
   r.get('/captures/:id/result', staff, async (req, res) => {
-    res.json(await svc.getAnalysisResult(db, shopOf(req), idParam(req.params.id, 'Capture')));
+    res.type('json').send(await svc.getAnalysisResultJson(db, shopOf(req), idParam(req.params.id, 'Capture')));
   });
   r.get('/captures/:id/file', staff, async (req, res) => {
     const file = await svc.captureFile(db, shopOf(req), idParam(req.params.id, 'Capture'));

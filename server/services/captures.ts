@@ -298,10 +298,13 @@ export async function getCapture(db: DbOrTx, shopId: number, id: number): Promis
   return c;
 }
 
-/** The engine's full result (spectrum, waveform, per channel) for the charts. */
-export async function getAnalysisResult(db: DbOrTx, shopId: number, captureId: number): Promise<unknown> {
+/**
+ * The engine's full result (spectrum, waveform, per channel) for the charts, as the JSON text
+ * PostgreSQL holds: about 100 kB that would otherwise be parsed here only to be written out again.
+ */
+export async function getAnalysisResultJson(db: DbOrTx, shopId: number, captureId: number): Promise<string> {
   const [row] = await db
-    .select({ result: analyses.result, state: captures.state })
+    .select({ result: sql<string | null>`${analyses.result}::text`, state: captures.state })
     .from(captures)
     .leftJoin(analyses, eq(analyses.captureId, captures.id))
     .where(and(eq(captures.shopId, shopId), eq(captures.id, captureId)));

@@ -2,14 +2,19 @@ import { eq, inArray, sql } from 'drizzle-orm';
 import type { Db } from '../db/client';
 import { captures } from '../db/schema/index';
 import { ANALYSIS_QUEUE, PGBOSS_SCHEMA, type AnalysisJobData, type AnalysisQueue } from '../services/analysis-queue';
-import { analyseCapture } from './analyse-capture';
-import { endIdleAnalysisThreads } from './channel-threads';
+import { analyseCapture, checkedResult } from './analyse-capture';
+import { endIdleAnalysisThreads, warmAnalysis } from './channel-threads';
 import type { FileStore } from '../storage/file-store';
 
 // The queue worker: takes capture-analysis jobs one at a time and, now and then, looks for
 // captures that are waiting with no job behind them (demo data, a job lost with a killed worker).
 
 export interface AnalysisWorker {
+  /**
+   * Settles once the start-up warm-up is over (a failed warm-up is only logged): true when jobs
+   * are being taken, false when taking them could not start (logged too).
+   */
+  warmedUp: Promise<boolean>;
   stop(): Promise<void>;
 }
 
@@ -19,26 +24,52 @@ export interface WorkerOptions {
   store: FileStore;
   pollingIntervalSeconds?: number;
   sweepIntervalMs?: number;
+  /**
+   * Seconds of synthetic capture analysed once at start-up, in the background, so the first real
+   * captures find the engine compiled and (local storage) its threads started: 0 for none.
+   */
+  warmUpSeconds?: number;
   log?: (message: string) => void;
 }
 
 export async function startAnalysisWorker(options: WorkerOptions): Promise<AnalysisWorker> {
   const { queue, db, store } = options;
   const log = options.log ?? ((m: string) => console.error(m));
-  let workerId = '';
-  workerId = await queue.boss.work<AnalysisJobData>(
-    ANALYSIS_QUEUE,
-    { includeMetadata: true, batchSize: 1, pollingIntervalSeconds: options.pollingIntervalSeconds ?? 1 },
-    async (jobs) => {
-      for (const job of jobs) {
-        await analyseCapture(db, store, job.data.captureId, { retryCount: job.retryCount, retryLimit: job.retryLimit });
-      }
-      // pg-boss waits out the polling interval even after a job; with a batch of uploads
-      // queued behind this one, fetch the next at once instead.
-      queue.boss.notifyWorker(workerId);
-    },
-  );
-  queue.registerLocalWorker(workerId);
+  const warmUpSeconds = options.warmUpSeconds ?? 0;
+  // Threads only serve captures on this node's disk; one in a bucket streams through this thread.
+  const warming =
+    warmUpSeconds > 0
+      ? warmAnalysis({ seconds: warmUpSeconds, threads: store.kind === 'local' ? undefined : 0 }).then(
+          // The result's check and figures are compiled too: the first capture's took 20–30 ms cold.
+          (warm) => void checkedResult(warm.result, null),
+          (err: unknown) => log(`analysis warm-up: ${err instanceof Error ? err.message : String(err)}`),
+        )
+      : Promise.resolve();
+  let stopped = false;
+  let workerId: string | null = null;
+  const take = async () => {
+    if (stopped) return;
+    const id = await queue.boss.work<AnalysisJobData>(
+      ANALYSIS_QUEUE,
+      { includeMetadata: true, batchSize: 1, pollingIntervalSeconds: options.pollingIntervalSeconds ?? 1 },
+      async (jobs) => {
+        for (const job of jobs) {
+          await analyseCapture(db, store, job.data.captureId, { retryCount: job.retryCount, retryLimit: job.retryLimit });
+        }
+        // pg-boss waits out the polling interval even after a job; with a batch of uploads
+        // queued behind this one, fetch the next at once instead.
+        queue.boss.notifyWorker(id);
+      },
+    );
+    workerId = id;
+    queue.registerLocalWorker(id);
+    queue.wake();
+  };
+  // Jobs are taken once the warm-up is over: a job fetched earlier would wait with its expiry
+  // clock running, or compete with the warm-up for the cores. Captures queued meanwhile wait.
+  const taking = warmUpSeconds > 0 ? warming.then(take) : take();
+  if (warmUpSeconds === 0) await taking;
+  else taking.catch((err: unknown) => log(`analysis worker could not start taking jobs: ${err instanceof Error ? err.message : String(err)}`));
   const sweep = () =>
     requeueStranded(db, queue).catch((err: unknown) => log(`analysis sweep: ${err instanceof Error ? err.message : String(err)}`));
   await sweep();
@@ -46,9 +77,15 @@ export async function startAnalysisWorker(options: WorkerOptions): Promise<Analy
   const timer = setInterval(sweep, options.sweepIntervalMs ?? 60_000);
   timer.unref();
   return {
+    warmedUp: taking.then(
+      () => workerId !== null || stopped,
+      () => false,
+    ),
     async stop() {
+      stopped = true;
       clearInterval(timer);
-      await queue.boss.offWork(ANALYSIS_QUEUE);
+      await taking.catch(() => undefined);
+      if (workerId !== null) await queue.boss.offWork(ANALYSIS_QUEUE);
       await endIdleAnalysisThreads();
     },
   };

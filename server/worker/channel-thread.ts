@@ -8,7 +8,8 @@ import { readFileChunksBlocking } from './file-chunks';
 // (channel-threads.ts starts it). Errors go back as plain data, so the caller can rebuild them.
 
 export interface ThreadTask {
-  path: string;
+  /** A stored file, or a capture held in memory (the synthetic one that warms a thread up). */
+  source: { path: string } | { bytes: Uint8Array };
   options: AnalyzeOptions;
   channels: number[];
 }
@@ -18,14 +19,20 @@ export type ThreadReply =
   | { ok: false; error: { name: string; message: string; code?: string } };
 
 /**
- * Measures one share, reading the file with blocking reads: used by the thread below and, for its
+ * Measures one share, reading a file with blocking reads: used by the thread below and, for its
  * own share, by a calling thread that has nothing else to do (a command-line run).
  */
 export function measureShare(task: ThreadTask): ChannelShare {
   // The options were checked by the caller (parseAnalyzeOptions): the thread loads no schema code.
   const analyzer = new ShareAnalyzer(task.options, task.channels);
-  for (const chunk of readFileChunksBlocking(task.path)) analyzer.push(chunk);
+  const chunks = 'path' in task.source ? readFileChunksBlocking(task.source.path) : bytesInChunks(task.source.bytes);
+  for (const chunk of chunks) analyzer.push(chunk);
   return analyzer.finishShare();
+}
+
+/** A capture in memory, handed out in read-sized pieces as a file would be. */
+export function* bytesInChunks(bytes: Uint8Array, chunkBytes = 1 << 20): Generator<Uint8Array> {
+  for (let at = 0; at < bytes.length; at += chunkBytes) yield bytes.subarray(at, at + chunkBytes);
 }
 
 if (parentPort && (workerData as { channelThread?: boolean } | null)?.channelThread) {

@@ -9,8 +9,12 @@ import {
   AnalyzeOptionsError,
   analyzeWavStream,
   channelGroups,
+  encodeWav,
   ENGINE_VERSION,
+  generateNoise,
+  generateSine,
   MAX_HEADER_BYTES,
+  mixInto,
   parseAnalyzeOptions,
   resultFromShares,
   WavFormatError,
@@ -20,13 +24,13 @@ import {
   type WavErrorCode,
 } from '../../analysis/index';
 import { parseWavHeader } from '../../analysis/wav-header';
-import { measureShare, type ThreadReply, type ThreadTask } from './channel-thread';
+import { bytesInChunks, measureShare, type ThreadReply, type ThreadTask } from './channel-thread';
 import { readFileChunks } from './file-chunks';
 
 // A capture's analysis split across worker threads by channel (analysis/channel-split.ts says why
 // by channel): each thread reads the file and measures its channels; the parts are joined into
 // the result one thread would give, number for number. Mono captures, and captures too short to
-// repay starting a thread, are analysed in the calling thread.
+// repay starting a thread (when no warm one is idle), are analysed in the calling thread.
 
 /**
  * Below this many samples (frames × channels) one thread is quicker. The pass costs about 2.5 ms
@@ -36,6 +40,26 @@ import { readFileChunks } from './file-chunks';
  * machine. They meet near 3 minutes of 96 kHz stereo; `npm run bench -- --break-even` shows it.
  */
 export const THREAD_BREAK_EVEN_SAMPLES = 2 * 96_000 * 180;
+
+/*
+ * WARM_THREADS_PAY_ANY_LENGTH. Threads a server warmed up at start (warmAnalysis) take captures of
+ * any length. Measured on this shared 2-core machine (load 2.5–6) with `npm run bench:api --
+ * --upload-to-result`, a 60 s 96 kHz 24-bit stereo capture, whose analysis the server used to run
+ * in its own thread in 256 kB reads:
+ *  - the database and queue work around the analysis is small: the job is fetched 25–60 ms after
+ *    the upload's transaction began (7–40 ms after its response), the capture row read and marked
+ *    running in 5–15 ms, the result checked (zod) in 3–5 ms (20–30 ms cold), stored in 10–40 ms
+ *    (107 kB of JSON), and read back through the API in 4–8 ms;
+ *  - the time went to the engine: its first capture in a new process took 1.5–2.5× the CPU of
+ *    later ones (V8 compiles the hot loops as they run, in every thread anew), and in the server's
+ *    own thread it shared the event loop with the HTTP requests served between its reads
+ *    (0.34–0.47 s against 0.20–0.30 s in a quiet process; the read size made no difference);
+ *  - a 10 s synthetic capture at start-up (about 1.3 s of CPU, off any request's path) brings the
+ *    first capture to within 1.3× of a warm one, and two warm threads (each reads and decodes the
+ *    file and measures one channel: about 20 % more CPU in all) take 0.13–0.25 s at load 2.5.
+ * Per round, (queue wait + analysis) / the command line's analysis of the same file went from a
+ * median of about 1.45 without the warm-up to about 1.05 with it (60 s capture, two runs each).
+ */
 
 export interface ThreadOptions {
   /** Threads to use in all (default: the machine's cores). 1 analyses in the calling thread. */
@@ -51,17 +75,24 @@ export interface ThreadOptions {
   chunkBytes?: number;
   /**
    * Keep the threads, idle, for the next analysis (a server: a warm thread skips start-up and
-   * compiling). They end after 30 s unused and never keep the process alive. Threads that
-   * failed are never kept.
+   * compiling), and use idle ones whatever the capture's length. They end after 30 s unused
+   * (those warmAnalysis started stay) and never keep the process alive. Threads that failed
+   * are never kept.
    */
   keepThreads?: boolean;
 }
 
 let liveThreads = 0;
+let threadTasks = 0;
 
 /** Analysis threads running now in this process (for tests and for shutting down cleanly). */
 export function activeAnalysisThreads(): number {
   return liveThreads;
+}
+
+/** Shares of captures measured on analysis threads so far in this process (tests: which way a capture went). */
+export function analysisThreadTasks(): number {
+  return threadTasks;
 }
 
 let threadCode: Promise<URL> | null = null;
@@ -129,20 +160,22 @@ interface Thread {
   gone: Promise<void>;
   exited: boolean;
   idleTimer: NodeJS.Timeout | null;
+  /** Started by warmAnalysis: kept, warm, until endIdleAnalysisThreads rather than for IDLE_MS. */
+  pinned: boolean;
 }
 
 const idle: Thread[] = [];
 /** A kept thread idle this long ends: a server between captures holds no threads for long. */
 const IDLE_MS = 30_000;
 
-function spawn(code: URL): Thread {
+function spawn(code: URL, pinned = false): Thread {
   const worker = new Worker(code, {
     workerData: { channelThread: true },
     // Plain JavaScript: none of the parent's loader flags (a test runner's, for one).
     execArgv: [],
   });
   liveThreads++;
-  const thread: Thread = { worker, gone: Promise.resolve(), exited: false, idleTimer: null };
+  const thread: Thread = { worker, gone: Promise.resolve(), exited: false, idleTimer: null, pinned };
   thread.gone = new Promise<void>((resolve) =>
     worker.once('exit', () => {
       thread.exited = true;
@@ -168,8 +201,10 @@ function take(code: URL): Thread {
 function keep(t: Thread): void {
   if (t.exited) return;
   t.worker.unref();
-  t.idleTimer = setTimeout(() => void stop(t), IDLE_MS);
-  t.idleTimer.unref();
+  if (!t.pinned) {
+    t.idleTimer = setTimeout(() => void stop(t), IDLE_MS);
+    t.idleTimer.unref();
+  }
   idle.push(t);
 }
 
@@ -206,6 +241,7 @@ function run(t: Thread, task: ThreadTask): Promise<ChannelShare> {
     w.on('message', onMessage);
     w.on('error', onError);
     w.on('exit', onExit);
+    threadTasks++;
     w.postMessage(task);
   });
 }
@@ -233,14 +269,21 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
   const parsed = parseAnalyzeOptions(options);
   const threads = Math.max(1, Math.floor(how.threads ?? availableParallelism()));
   const info = parseWavHeader(await readHead(path));
-  const worth = info !== null && (how.ignoreBreakEven || info.frames * info.channels >= THREAD_BREAK_EVEN_SAMPLES);
-  if (!info || !worth || threads < 2 || info.channels < 2) return analyzeWavStream(readFileChunks(path, how.chunkBytes), parsed);
+  const inCallingThread = () => analyzeWavStream(readFileChunks(path, how.chunkBytes), parsed);
+  if (!info || threads < 2 || info.channels < 2) return inCallingThread();
 
   const shareCalling = how.shareCallingThread ?? true;
   const groups = channelGroups(info.channels, threads);
-  const tasks: ThreadTask[] = groups.map((channels) => ({ path, options: parsed, channels }));
+  const tasks: ThreadTask[] = groups.map((channels) => ({ source: { path }, options: parsed, channels }));
   const own = shareCalling ? tasks.shift()! : null;
+  // Threads already running and warm cost nothing to start: they pay on any length (see
+  // WARM_THREADS_PAY_ANY_LENGTH); the break-even is for threads that must be started.
+  const warmAndFree = how.keepThreads === true && idle.length >= tasks.length;
+  const worth = how.ignoreBreakEven || warmAndFree || info.frames * info.channels >= THREAD_BREAK_EVEN_SAMPLES;
+  if (!worth) return inCallingThread();
+
   const code = await threadModule();
+  const pooled = idle.slice(-tasks.length);
   const running = tasks.map(() => take(code));
   let ok = false;
   try {
@@ -253,7 +296,60 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
     return resultFromShares({ engineVersion: ENGINE_VERSION, info, options: parsed, shares: parts });
   } finally {
     // When this returns every thread has ended, or (keepThreads, after a success) waits idle.
-    if (ok && how.keepThreads) running.forEach(keep);
-    else await Promise.all(running.map(stop));
+    // A thread taken from the idle ones goes back after a success whoever borrowed it: another
+    // caller kept it (a server's, warmed up at start), and ending it would undo that.
+    const back = running.filter((t) => ok && (how.keepThreads || pooled.includes(t)));
+    back.forEach(keep);
+    await Promise.all(running.filter((t) => !back.includes(t)).map(stop));
   }
+}
+
+export interface WarmUp {
+  /** Threads started and warmed (0: the calling thread only). */
+  threads: number;
+  ms: number;
+  /** The synthetic capture's result, for warming what the caller does with results. */
+  result: AnalysisResult;
+}
+
+/**
+ * Readies this process for the analyses to come, off any request's path: starts `threads`
+ * analysis threads (kept, idle, until endIdleAnalysisThreads) and runs a synthetic capture of
+ * `seconds` through each of them and through the calling thread, so the engine's hot loops are
+ * compiled before the first real capture. The calling thread's pass yields between chunks so a
+ * server's requests go on meanwhile. Two idle warm threads hold about 100 MB between them.
+ */
+export async function warmAnalysis(o: { seconds: number; threads?: number }): Promise<WarmUp> {
+  const started = performance.now();
+  const sampleRate = 96_000;
+  // A −10 dBFS tone in channel 0 over −100 dBFS noise in both: the tone, noise and crosstalk paths all run.
+  const channels = generateSine({ sampleRate, frequencyHz: 997, levelDbfs: -10, seconds: o.seconds, channels: 2, drivenChannels: [0] });
+  const noise = generateNoise({ sampleRate, levelDbfs: -100, seconds: o.seconds, channels: 2, seed: 5 });
+  channels.forEach((c, i) => mixInto(c, noise[i]!));
+  const bytes = encodeWav(channels, sampleRate, 24);
+  const options = parseAnalyzeOptions({ stimulus: 'tone' });
+  const threads = Math.max(0, Math.floor(o.threads ?? Math.min(2, availableParallelism())));
+  let warmed = 0;
+  if (threads >= 2) {
+    const code = await threadModule();
+    const fresh = Array.from({ length: threads }, () => spawn(code, true));
+    let ok = false;
+    try {
+      const groups = channelGroups(2, threads);
+      await Promise.all(fresh.map((t, i) => run(t, { source: { bytes }, options, channels: groups[i % groups.length]! })));
+      ok = true;
+      warmed = fresh.length;
+    } finally {
+      if (ok) fresh.forEach(keep);
+      else await Promise.all(fresh.map(stop));
+    }
+  }
+  async function* yielding(): AsyncGenerator<Uint8Array> {
+    for (const chunk of bytesInChunks(bytes, 256 * 1024)) {
+      await new Promise((resolve) => setImmediate(resolve));
+      yield chunk;
+    }
+  }
+  const result = await analyzeWavStream(yielding(), options);
+  return { threads: warmed, ms: performance.now() - started, result };
 }

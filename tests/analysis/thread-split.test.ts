@@ -16,7 +16,14 @@ import {
   type AnalysisResult,
   type SampleFormat,
 } from '../../analysis/index';
-import { activeAnalysisThreads, analyzeFileInThreads, endIdleAnalysisThreads } from '../../server/worker/channel-threads';
+import {
+  activeAnalysisThreads,
+  analysisThreadTasks,
+  analyzeFileInThreads,
+  endIdleAnalysisThreads,
+  THREAD_BREAK_EVEN_SAMPLES,
+  warmAnalysis,
+} from '../../server/worker/channel-threads';
 
 // The analysis split across worker threads by channel (server/worker/channel-threads.ts) must give
 // the single-thread result field by field — the same numbers, not close ones: each channel's
@@ -115,8 +122,45 @@ describe('kept threads', () => {
     // The same three threads, not three more.
     expect(activeAnalysisThreads()).toBe(3);
     expect(second).toStrictEqual(first);
+    // A caller that keeps none borrows them and leaves them kept.
+    expect(await analyzeFileInThreads(path, {}, { ...how, keepThreads: false })).toStrictEqual(first);
+    expect(activeAnalysisThreads()).toBe(3);
     expect(first).toStrictEqual(analyzeWavBytes(bytes));
     await endIdleAnalysisThreads();
+    expect(activeAnalysisThreads()).toBe(0);
+  });
+});
+
+describe('threads warmed up at start', () => {
+  it('are kept, take a capture far below the break-even, give the single-thread result, and end when asked', async () => {
+    const warm = await warmAnalysis({ seconds: 0.5, threads: 2 });
+    expect(warm.threads).toBe(2);
+    expect(activeAnalysisThreads()).toBe(2);
+    const ch = generateSine({ sampleRate: FS, frequencyHz: 997, levelDbfs: -10, seconds: 2, channels: 2 });
+    ch.forEach((c, i) => mixInto(c, generateNoise({ sampleRate: FS, levelDbfs: -100, seconds: 2, seed: 21 + i })[0]!));
+    addClick(ch[1]!, FS, { frame: 50_000, amplitude: 0.01 });
+    const bytes = encodeWav(ch, FS, 24);
+    expect(2 * FS * 2).toBeLessThan(THREAD_BREAK_EVEN_SAMPLES);
+    const path = save('warm.wav', bytes);
+    const server = { threads: 2, shareCallingThread: false, keepThreads: true };
+    const before = analysisThreadTasks();
+    const result = await analyzeFileInThreads(path, {}, server);
+    // Both channels went to the two warm threads, which are still there, not to new ones.
+    expect(analysisThreadTasks() - before).toBe(2);
+    expect(activeAnalysisThreads()).toBe(2);
+    expect(result).toStrictEqual(analyzeWavBytes(bytes));
+    expect(result.channels[1]!.clicks.count).toBe(1);
+    // A caller that keeps no threads may use them, but they stay, warm.
+    const borrowed = analysisThreadTasks();
+    expect(await analyzeFileInThreads(path, {}, { threads: 2, shareCallingThread: false, ignoreBreakEven: true })).toStrictEqual(result);
+    expect(analysisThreadTasks() - borrowed).toBe(2);
+    expect(activeAnalysisThreads()).toBe(2);
+    await endIdleAnalysisThreads();
+    expect(activeAnalysisThreads()).toBe(0);
+    // Without warm threads to reuse, the same short capture stays in the calling thread.
+    const alone = analysisThreadTasks();
+    expect(await analyzeFileInThreads(path, {}, server)).toStrictEqual(result);
+    expect(analysisThreadTasks()).toBe(alone);
     expect(activeAnalysisThreads()).toBe(0);
   });
 });

@@ -14,6 +14,8 @@ import { captures, jobs } from '../../server/db/schema/index';
 import { storagePath } from '../../server/services/capture-storage';
 import type { SignalPath } from '../../shared/signal-path';
 import { DEMO_CAPTURES } from '../../server/db/seed-captures';
+import { availableParallelism } from 'node:os';
+import { activeAnalysisThreads, analysisThreadTasks } from '../../server/worker/channel-threads';
 
 const { db, close } = testDb();
 afterAll(close);
@@ -97,6 +99,34 @@ describe('workers in other processes', () => {
     } finally {
       await worker.close();
     }
+  });
+});
+
+describe('warm-up at start', () => {
+  it('a server starts its analysis threads before taking jobs, measures a short capture with them, and ends them on close', async () => {
+    const job = await makeBenchJob(db);
+    const server = await startTestServer({ ANALYSIS_WARM_UP_SECONDS: '0.5' });
+    // Two threads where the machine has two cores or more; none on one core.
+    const warm = availableParallelism() >= 2 ? 2 : 0;
+    try {
+      expect(await server.analysisWarmedUp).toBe(true);
+      expect(activeAnalysisThreads()).toBe(warm);
+      const before = analysisThreadTasks();
+      const tech = await signedIn(server.url, 'tech@quietpath.test');
+      const res = await upload(tech, job.jobId, [
+        { name: 'warm.wav', bytes: sample('demo-before-input-socket.wav'), meta: { testPointId: job.testPointIds[0]!, phase: 'before', stimulus: 'tone', drivenChannel: 0 } },
+      ]);
+      expect(res.status).toBe(201);
+      const [done] = await waitForAnalysis(tech, job.jobId, [res.body.captures[0]!.id]);
+      expect(done!.state).toBe('done');
+      expect(done!.figures!.separationDb).toBeCloseTo(80, 0); // README: input socket 80 dB
+      // A few seconds of stereo, far below the break-even for new threads: the warm ones took it.
+      expect(analysisThreadTasks() - before).toBe(warm);
+      expect(activeAnalysisThreads()).toBe(warm);
+    } finally {
+      await server.close();
+    }
+    expect(activeAnalysisThreads()).toBe(0);
   });
 });
 

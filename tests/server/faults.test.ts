@@ -29,6 +29,7 @@ function childEnv(filesDir: string, extra: Record<string, string>): Record<strin
     PORT: '0',
     SESSION_SECRET: 'fault-test-secret-of-sufficient-length',
     FILES_DIR: filesDir,
+    ANALYSIS_WARM_UP_SECONDS: '1',
     ...extra,
   };
 }

@@ -54,6 +54,7 @@ function sharedEnv(name: string): Record<string, string> {
     // A lost analysis is retried after 2 s instead of the default 10 minutes.
     ANALYSIS_EXPIRE_SECONDS: '2',
     QUEUE_MAINTENANCE_SECONDS: '1',
+    ANALYSIS_WARM_UP_SECONDS: '1',
   };
 }
 

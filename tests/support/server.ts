@@ -13,6 +13,10 @@ export async function startTestServer(extraEnv: Record<string, string> = {}): Pr
     // must find the files of captures queued by another (and the seeded demo captures).
     FILES_DIR: inject('filesDir'),
     NODE_ENV: 'test',
+    // No engine warm-up: a test server takes jobs at once, as it always has. Test files share
+    // the queue, and a server that waited would leave its captures longer to the workers of
+    // tests with their own files (faults, several nodes). analysis-worker.test.ts turns it on.
+    ANALYSIS_WARM_UP_SECONDS: '0',
     ...extraEnv,
   });
 }
