@@ -33,13 +33,17 @@ import { readFileChunks } from './file-chunks';
 // repay starting a thread (when no warm one is idle), are analysed in the calling thread.
 
 /**
- * Below this many samples (frames × channels) one thread is quicker. The pass costs about 2.5 ms
- * of CPU per second of 96 kHz stereo (0.75 s for 5 minutes), so a second thread saves about
- * 1.25 ms per second of capture, while starting it — loading the bundle, a cold compiler, the
- * file read and decoded once more — cost about 0.24 s of CPU in `npm run bench` on this 2-core
- * machine. They meet near 3 minutes of 96 kHz stereo; `npm run bench -- --break-even` shows it.
+ * Below this many samples (frames × channels) one thread is quicker than starting threads. One
+ * thread measuring both channels of a stereo capture shares the reading and the word-wise
+ * decoding between them, and pays the fixed costs once: V8 compiling the hot loops as they first
+ * run, the FFT tables and first transforms, about 0.25–0.3 s in a fresh process. Every new thread
+ * pays those again and reads and decodes the whole file. `npm run bench -- --break-even`, 96 kHz
+ * 24-bit stereo, fresh processes, load 1.1 on this 2-core machine, 2 threads against 1: 10 s 0.96×,
+ * 60 s 1.18×, 3 min 1.20×, 5 min 1.03×; `npm run bench` gave 0.95× on 20 minutes. They meet
+ * between 5 and 20 minutes; 8 minutes is taken. Threads already started and warm are another
+ * matter (WARM_THREADS_PAY_ANY_LENGTH below).
  */
-export const THREAD_BREAK_EVEN_SAMPLES = 2 * 96_000 * 180;
+export const THREAD_BREAK_EVEN_SAMPLES = 2 * 96_000 * 480;
 
 /*
  * WARM_THREADS_PAY_ANY_LENGTH. Threads a server warmed up at start (warmAnalysis) take captures of
