@@ -63,7 +63,7 @@ export class ShareAnalyzer {
   }
 
   push(chunk: Uint8Array): void {
-    if (this.done) throw new Error('CaptureAnalyzer: push after finish');
+    if (this.done) throw new Error('ShareAnalyzer: push after finish');
     // A plain Uint8Array view of a subclass (Node's Buffer): the decoder's loops then see one
     // array shape, carried partial frames included, and stay monomorphic and fast.
     const bytes = Object.getPrototypeOf(chunk) === Uint8Array.prototype ? chunk : new Uint8Array(chunk.buffer, chunk.byteOffset, chunk.byteLength);
@@ -145,7 +145,7 @@ export class ShareAnalyzer {
 
   /** The figures of the channels this analyser measures (all, unless given a share). */
   finishShare(): ChannelShare {
-    if (this.done) throw new Error('CaptureAnalyzer: finish called twice');
+    if (this.done) throw new Error('ShareAnalyzer: finish called twice');
     this.done = true;
     const p = this.pipeline;
     if (!p) {
@@ -157,6 +157,7 @@ export class ShareAnalyzer {
     p.decoder.finish();
     p.spectrum?.collector.finish(p.info.frames);
     p.sweep?.collector.finish(p.info.frames);
+    // Clicks before spectrograms: closing the last sub-block tells the spectrogram its sharpness.
     return {
       channels: p.keep,
       levels: p.meters.map((m) => m.result()),
