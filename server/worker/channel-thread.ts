@@ -1,6 +1,7 @@
 import { parentPort, workerData } from 'node:worker_threads';
 import type { ChannelShare } from '../../analysis/channel-split';
 import { ShareAnalyzer } from '../../analysis/share-analyzer';
+import { shareErrorData, type ShareErrorData } from '../../analysis/share-errors';
 import type { AnalyzeOptions } from '../../shared/analysis-result';
 import { readFileChunksBlocking } from './file-chunks';
 
@@ -16,7 +17,7 @@ export interface ThreadTask {
 
 export type ThreadReply =
   | { ok: true; share: ChannelShare }
-  | { ok: false; error: { name: string; message: string; code?: string } };
+  | { ok: false; error: ShareErrorData };
 
 /**
  * Measures one share, reading a file with blocking reads: used by the thread below and, for its
@@ -41,14 +42,7 @@ if (parentPort && (workerData as { channelThread?: boolean } | null)?.channelThr
   port.on('message', (task: ThreadTask) => {
     new Promise<ChannelShare>((resolve) => resolve(measureShare(task))).then(
       (share) => port.postMessage({ ok: true, share } satisfies ThreadReply),
-      (err: unknown) => {
-        const e = err instanceof Error ? err : new Error(String(err));
-        const code = (e as { code?: unknown }).code;
-        port.postMessage({
-          ok: false,
-          error: { name: e.name, message: e.message, ...(typeof code === 'string' ? { code } : {}) },
-        } satisfies ThreadReply);
-      },
+      (err: unknown) => port.postMessage({ ok: false, error: shareErrorData(err) } satisfies ThreadReply),
     );
   });
 }

@@ -6,7 +6,6 @@ import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import { build } from 'esbuild';
 import {
-  AnalyzeOptionsError,
   analyzeWavStream,
   channelGroups,
   encodeWav,
@@ -17,12 +16,11 @@ import {
   mixInto,
   parseAnalyzeOptions,
   resultFromShares,
-  WavFormatError,
   type AnalysisResult,
   type AnalyzeOptions,
   type ChannelShare,
-  type WavErrorCode,
 } from '../../analysis/index';
+import { shareErrorFromData } from '../../analysis/share-errors';
 import { parseWavHeader } from '../../analysis/wav-header';
 import { bytesInChunks, measureShare, type ThreadReply, type ThreadTask } from './channel-thread';
 import { readFileChunks } from './file-chunks';
@@ -227,7 +225,7 @@ function run(t: Thread, task: ThreadTask): Promise<ChannelShare> {
     const onMessage = (reply: ThreadReply) => {
       off();
       if (reply.ok) resolve(reply.share);
-      else reject(rebuild(reply.error, where));
+      else reject(shareErrorFromData(reply.error, where));
     };
     const onError = (err: Error) => {
       off();
@@ -248,13 +246,6 @@ function run(t: Thread, task: ThreadTask): Promise<ChannelShare> {
     threadTasks++;
     w.postMessage(task);
   });
-}
-
-/** The engine's own errors keep their class (callers treat a damaged file as final); others say where they came from. */
-function rebuild(e: { name: string; message: string; code?: string }, where: string): Error {
-  if (e.name === 'WavFormatError' && e.code) return new WavFormatError(e.code as WavErrorCode, e.message);
-  if (e.name === 'AnalyzeOptionsError') return new AnalyzeOptionsError(e.message);
-  return new Error(`${where} failed: ${e.message}`);
 }
 
 async function readHead(path: string): Promise<Uint8Array> {

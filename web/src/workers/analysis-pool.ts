@@ -1,17 +1,15 @@
 // Relative imports (see channel-share.worker.ts): the test harness bundles this without the aliases.
 import {
-  AnalyzeOptionsError,
   channelGroups,
   ENGINE_VERSION,
   parseAnalyzeOptions,
   readWavInfo,
   resultFromShares,
-  WavFormatError,
   type AnalysisResult,
   type AnalyzeOptions,
-  type WavErrorCode,
   type WavInfo,
 } from '../../../analysis/index';
+import { shareErrorFromData } from '../../../analysis/share-errors';
 import type { ShareReply, ShareTask } from './channel-share.worker';
 
 // A pool of module Web Workers that analyse WAV files held in memory, off the page's thread.
@@ -143,7 +141,7 @@ export class AnalysisPool {
       const reply = e.data;
       settle(reply.ok);
       if (reply.ok) job.resolve(reply);
-      else job.reject(rebuild(reply.error, where));
+      else job.reject(shareErrorFromData(reply.error, where));
     };
     w.onerror = (e) => {
       // Handled here: keeps the browser from also reporting it as uncaught.
@@ -168,9 +166,3 @@ function headerOf(bytes: Uint8Array): WavInfo | null {
   }
 }
 
-/** The engine's own errors keep their class (callers treat a damaged file as final); others say where they came from. */
-function rebuild(e: { name: string; message: string; code?: string }, where: string): Error {
-  if (e.name === 'WavFormatError' && e.code) return new WavFormatError(e.code as WavErrorCode, e.message);
-  if (e.name === 'AnalyzeOptionsError') return new AnalyzeOptionsError(e.message);
-  return new Error(`${where} failed: ${e.message}`);
-}

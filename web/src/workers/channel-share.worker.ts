@@ -1,6 +1,7 @@
 // Relative imports, not the @analysis alias, so a page built outside the app (the browser test's
 // harness) can bundle the pool and this worker with a plain Vite config.
 import { CaptureAnalyzer, type AnalysisResult, type AnalyzeOptions, type ChannelShare } from '../../../analysis/index';
+import { shareErrorData, type ShareErrorData } from '../../../analysis/share-errors';
 
 // One worker of the analysis pool (analysis-pool.ts): measures its share of a WAV file's channels
 // and posts the figures back. Errors go back as plain data so the pool can rebuild the engine's
@@ -18,7 +19,7 @@ export interface ShareTask {
 export type ShareReply =
   | { ok: true; share: ChannelShare }
   | { ok: true; result: AnalysisResult }
-  | { ok: false; error: { name: string; message: string; code?: string } };
+  | { ok: false; error: ShareErrorData };
 
 /** The parts of the worker's global scope used here (the DOM lib types `self` as a window). */
 interface WorkerScope {
@@ -40,9 +41,7 @@ scope.onmessage = (e) => {
   try {
     reply = measure(e.data);
   } catch (err) {
-    const x = err instanceof Error ? err : new Error(String(err));
-    const code = (x as { code?: unknown }).code;
-    reply = { ok: false, error: { name: x.name, message: x.message, ...(typeof code === 'string' ? { code } : {}) } };
+    reply = { ok: false, error: shareErrorData(err) };
   }
   scope.postMessage(reply);
 };
