@@ -16,8 +16,6 @@ export function ceilPowerOfTwo(n: number): number {
   return 2 ** Math.ceil(Math.log2(n));
 }
 
-const tables = new Map<number, FFT>();
-
 /** The fields fft.js 4.0.x keeps, as its constructor sets them up (tests/analysis/fft-tables.test.ts holds us to it). */
 interface FftFields {
   size: number;
@@ -63,27 +61,41 @@ export function fftWithTypedTables(size: number): FFT {
   return f as unknown as FFT;
 }
 
-/** fft.js instances hold only their twiddle tables, so one per size is shared (a few sizes kept). */
-function fftOfSize(size: number): FFT {
-  let f = tables.get(size);
-  if (!f) {
-    f = fftWithTypedTables(size);
-    if (tables.size >= 4) tables.delete(tables.keys().next().value!);
-    tables.set(size, f);
+/**
+ * Per size: fft.js's tables, and the scratch arrays every transform of that size writes and reads
+ * within one synchronous call. fft.js instances hold only their tables, and no transform keeps
+ * its scratch past the call that filled it, so one of each per size serves every analysis in the
+ * thread (a few sizes kept). Fresh scratch per analysis was 3 MB of garbage per 2^17-point
+ * measurement spectrum, which piled up in a kept analysis thread between collections.
+ */
+interface SizeKit {
+  fft: FFT;
+  /** fft.js's complex output. */
+  out: Float64Array;
+  /** A windowed copy of the input. */
+  windowed: Float64Array;
+}
+
+const kits = new Map<number, SizeKit>();
+
+function kitOfSize(size: number): SizeKit {
+  let k = kits.get(size);
+  if (!k) {
+    k = { fft: fftWithTypedTables(size), out: new Float64Array(2 * size), windowed: new Float64Array(size) };
+    if (kits.size >= 4) kits.delete(kits.keys().next().value!);
+    kits.set(size, k);
   }
-  return f;
+  return k;
 }
 
 export class RealFft {
   readonly size: number;
-  private readonly fft: FFT;
-  private readonly out: Float64Array;
+  private readonly kit: SizeKit;
 
   constructor(size: number) {
     if (!isPowerOfTwo(size)) throw new RangeError(`FFT size must be a power of two ≥ 4, got ${size}`);
     this.size = size;
-    this.fft = fftOfSize(size);
-    this.out = new Float64Array(2 * size);
+    this.kit = kitOfSize(size);
   }
 
   /** Adds |X[k]|² for k = 0 … N/2 of the real input to `acc` (length N/2 + 1). */
@@ -91,12 +103,20 @@ export class RealFft {
     if (input.length !== this.size || acc.length !== this.size / 2 + 1) {
       throw new RangeError(`accumulatePower: input ${input.length}, acc ${acc.length} for FFT size ${this.size}`);
     }
-    const out = this.out;
-    this.fft.realTransform(out, input);
+    const out = this.kit.out;
+    this.kit.fft.realTransform(out, input);
     for (let k = 0, half = this.size / 2; k <= half; k++) {
       const re = out[2 * k]!;
       const im = out[2 * k + 1]!;
       acc[k]! += re * re + im * im;
     }
+  }
+
+  /** accumulatePower of x·w (x and w of the transform's size), without a copy of the caller's. */
+  accumulateWindowedPower(x: Float64Array, w: Float64Array, acc: Float64Array): void {
+    if (x.length !== this.size || w.length !== this.size) throw new RangeError(`accumulateWindowedPower: input ${x.length}, window ${w.length} for FFT size ${this.size}`);
+    const s = this.kit.windowed;
+    for (let i = 0; i < s.length; i++) s[i] = x[i]! * w[i]!;
+    this.accumulatePower(s, acc);
   }
 }

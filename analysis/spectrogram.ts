@@ -102,6 +102,8 @@ export class SpectrogramAccumulator {
   private readonly steadyColumn: Int32Array;
   private steadyDone = 0;
   /** Per column, the middle quarter [from, to) of its steady frame, and the sharpest sub-block touching it (−1 until seen). */
+  /** First frame of each column, and the end: see edge(). */
+  private readonly edges: Float64Array;
   private readonly middleFrom: Float64Array;
   private readonly middleTo: Float64Array;
   private readonly middleSharpness: Float64Array;
@@ -156,6 +158,10 @@ export class SpectrogramAccumulator {
       this.rowHi[f] = b;
     }
 
+    // Once, here: c·T passes 2^31 on captures longer than a minute and a half at 96 kHz, and
+    // computed per sub-block it threw the optimised pass back to slower code mid-capture.
+    this.edges = new Float64Array(this.columns + 1);
+    for (let c = 0; c <= this.columns; c++) this.edges[c] = Math.round((c * this.totalFrames) / this.columns);
     const starts: number[] = [];
     this.middleFrom = new Float64Array(this.columns);
     this.middleTo = new Float64Array(this.columns);
@@ -188,7 +194,7 @@ export class SpectrogramAccumulator {
 
   /** First frame of column c (c = columns gives the end). */
   private edge(c: number): number {
-    return Math.round((c * this.totalFrames) / this.columns);
+    return this.edges[c]!;
   }
 
   /**

@@ -120,7 +120,7 @@ export class SpectrumAccumulator {
   private readonly channels: number;
   private readonly kind: WindowKind;
   private readonly sampleRate: number;
-  private state: { fft: RealFft; window: Float64Array; sums: Float64Array[]; scratch: Float64Array } | null = null;
+  private state: { fft: RealFft; window: Float64Array; sums: Float64Array[] } | null = null;
   private frames = 0;
 
   constructor(plan: FramePlan, channels: number, sampleRate: number, kind: WindowKind) {
@@ -136,18 +136,13 @@ export class SpectrumAccumulator {
       fft: new RealFft(this.size),
       window: makeWindow(this.kind, this.size),
       sums: Array.from({ length: this.channels }, () => new Float64Array(this.size / 2 + 1)),
-      scratch: new Float64Array(this.size),
     };
     return this.state;
   }
 
   private addFrame(frame: readonly Float64Array[]): void {
-    const { fft, window: w, sums, scratch: s } = this.ready();
-    for (let c = 0; c < frame.length; c++) {
-      const x = frame[c]!;
-      for (let i = 0; i < s.length; i++) s[i] = x[i]! * w[i]!;
-      fft.accumulatePower(s, sums[c]!);
-    }
+    const { fft, window: w, sums } = this.ready();
+    for (let c = 0; c < frame.length; c++) fft.accumulateWindowedPower(frame[c]!, w, sums[c]!);
     this.frames++;
   }
 

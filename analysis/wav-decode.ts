@@ -217,7 +217,7 @@ export class FrameDecoder {
   readonly blockFrames: number;
   private readonly info: WavInfo;
   private readonly sink: BlockSink;
-  private block: Float64Array[];
+  private readonly block: Float64Array[];
   private readonly histories: readonly SampleHistory[] | null;
   private readonly carry: Uint8Array;
   private carryLength = 0;
@@ -239,7 +239,9 @@ export class FrameDecoder {
     const channels = keep ?? Array.from({ length: info.channels }, (_, c) => c);
     if (histories && histories.length !== channels.length) throw new RangeError(`${histories.length} histories for ${channels.length} channels`);
     this.histories = histories ?? null;
-    this.block = histories ? histories.map((h) => h.blockAt(0, blockFrames)) : channels.map(() => new Float64Array(blockFrames));
+    // Built by push, never by map: one array shape for every decoder (see flush()).
+    this.block = [];
+    for (let k = 0; k < channels.length; k++) this.block.push(histories ? histories[k]!.blockAt(0, blockFrames) : new Float64Array(blockFrames));
     this.carry = new Uint8Array(info.blockAlign);
     this.read = makeReader(info, () => this.currentView, channels);
   }
@@ -300,7 +302,11 @@ export class FrameDecoder {
     this.sink(this.block, this.blockStart, this.blockFill);
     this.blockStart += this.blockFill;
     this.blockFill = 0;
-    if (this.histories) this.block = this.histories.map((h) => h.blockAt(this.blockStart, this.blockFrames));
+    // In place: Array.prototype.map sometimes hands back a holey array (when its fast path is
+    // interrupted), and that one change of array shape threw the optimised decoder back to slower
+    // code in the middle of long captures.
+    const h = this.histories;
+    if (h) for (let k = 0; k < h.length; k++) this.block[k] = h[k]!.blockAt(this.blockStart, this.blockFrames);
   }
 
   /** Ends the data; throws 'truncated' when fewer frames arrived than the header declared. */

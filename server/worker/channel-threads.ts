@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { mkdir, open, readdir, rename, stat, writeFile } from 'node:fs/promises';
+import { mkdir, mkdtemp, open, readdir, rename, rm, stat, writeFile } from 'node:fs/promises';
 import { availableParallelism, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
@@ -8,14 +8,13 @@ import { build } from 'esbuild';
 import {
   analyzeWavStream,
   channelGroups,
-  encodeWav,
+  encodeSamples,
+  encodeWavHeader,
   ENGINE_VERSION,
-  generateNoise,
-  generateSine,
   MAX_HEADER_BYTES,
-  mixInto,
   parseAnalyzeOptions,
   resultFromShares,
+  seededGaussian,
   type AnalysisResult,
   type AnalyzeOptions,
   type ChannelShare,
@@ -265,12 +264,15 @@ export async function analyzeFileInThreads(path: string, options: AnalyzeOptions
   const threads = Math.max(1, Math.floor(how.threads ?? availableParallelism()));
   const info = parseWavHeader(await readHead(path));
   const inCallingThread = () => analyzeWavStream(readFileChunks(path, how.chunkBytes), parsed);
-  if (!info || threads < 2 || info.channels < 2) return inCallingThread();
+  if (!info || threads < 2) return inCallingThread();
 
   const shareCalling = how.shareCallingThread ?? true;
   const groups = channelGroups(info.channels, threads);
   const tasks: ThreadTask[] = groups.map((channels) => ({ source: { path }, options: parsed, channels }));
   const own = shareCalling ? tasks.shift()! : null;
+  // A mono capture is one share: the calling thread's, unless it only waits (a server), when a
+  // warm thread takes it below.
+  if (tasks.length === 0) return inCallingThread();
   // Threads already running and warm cost nothing to start: they pay on any length (see
   // WARM_THREADS_PAY_ANY_LENGTH); the break-even is for threads that must be started.
   const warmAndFree = how.keepThreads === true && idle.length >= tasks.length;
@@ -307,38 +309,89 @@ export interface WarmUp {
   result: AnalysisResult;
 }
 
+/** Passes each warmed thread makes over the synthetic capture (see warmAnalysis). */
+export const WARM_UP_ROUNDS = 3;
+
 /**
- * Readies this process for the analyses to come, off any request's path: starts `threads`
- * analysis threads (kept, idle, until endIdleAnalysisThreads) and runs a synthetic capture of
- * `seconds` through each of them and through the calling thread, so the engine's hot loops are
- * compiled before the first real capture. The calling thread's pass yields between chunks so a
- * server's requests go on meanwhile. Two idle warm threads hold about 100 MB between them.
+ * A −10 dBFS tone in channel 0 over −100 dBFS noise in both, with a click every 1.3 s: the tone,
+ * noise, crosstalk and click-check paths all run. Made a second at a time, straight into 24-bit
+ * bytes, so the warm-up holds the file and not a float copy of every sample.
  */
-export async function warmAnalysis(o: { seconds: number; threads?: number }): Promise<WarmUp> {
-  const started = performance.now();
+function warmUpCapture(seconds: number): Uint8Array {
   const sampleRate = 96_000;
-  // A −10 dBFS tone in channel 0 over −100 dBFS noise in both: the tone, noise and crosstalk paths all run.
-  const channels = generateSine({ sampleRate, frequencyHz: 997, levelDbfs: -10, seconds: o.seconds, channels: 2, drivenChannels: [0] });
-  const noise = generateNoise({ sampleRate, levelDbfs: -100, seconds: o.seconds, channels: 2, seed: 5 });
-  channels.forEach((c, i) => mixInto(c, noise[i]!));
-  const bytes = encodeWav(channels, sampleRate, 24);
+  const frames = Math.round(seconds * sampleRate);
+  const header = encodeWavHeader({ sampleRate, channels: 2, format: 24, frames });
+  const bytes = new Uint8Array(header.length + frames * 6);
+  bytes.set(header);
+  const gauss = seededGaussian(5);
+  const tone = 10 ** (-10 / 20);
+  const noise = 10 ** (-100 / 20);
+  const w = (2 * Math.PI * 997) / sampleRate;
+  const clickEvery = Math.round(1.3 * sampleRate);
+  const block = [new Float64Array(sampleRate), new Float64Array(sampleRate)];
+  for (let start = 0, at = header.length; start < frames; start += sampleRate) {
+    const n = Math.min(sampleRate, frames - start);
+    for (let i = 0; i < n; i++) {
+      const f = start + i;
+      const click = f % clickEvery === clickEvery >> 2 ? 0.02 : 0;
+      block[0]![i] = tone * Math.sin(w * f) + noise * gauss() + click;
+      block[1]![i] = noise * gauss() + click;
+    }
+    const encoded = encodeSamples(block, 24, 0, n);
+    bytes.set(encoded, at);
+    at += encoded.length;
+  }
+  return bytes;
+}
+
+/**
+ * Readies this process for the analyses to come, off any request's path. With threads (`threads`
+ * ≥ 2), it starts them (kept, idle, until endIdleAnalysisThreads), has each measure a synthetic
+ * capture of `seconds` `rounds` times, and joins their shares here, so the engine's hot loops and
+ * the join are compiled before the first real capture; the calling thread then only waits for
+ * threads (analyzeFileInThreads, shareCallingThread false). Without, the calling thread measures
+ * the capture once, yielding between chunks so a server's requests go on meanwhile.
+ *
+ * Why this much (`npm run bench`, warm rows, 5-minute capture, this 2-core machine): V8 finishes
+ * optimising on background threads, and two busy analysis threads leave it little room, so one
+ * pass over 10 s left the first real capture at 1.5–2× the time of later ones. The threads read
+ * the warm-up capture from a file, with the reads a stored capture gets, because V8 compiles for
+ * the shapes it has seen. With three rounds, and two causes of mid-capture de-optimisation
+ * removed from the engine (see SpectrogramAccumulator's column edges and FrameDecoder.flush), the
+ * first capture came within about 1.2× of later ones. Two idle warm threads hold about 100 MB.
+ */
+export async function warmAnalysis(o: { seconds: number; threads?: number; rounds?: number }): Promise<WarmUp> {
+  const started = performance.now();
+  const bytes = warmUpCapture(o.seconds);
   const options = parseAnalyzeOptions({ stimulus: 'tone' });
   const threads = Math.max(0, Math.floor(o.threads ?? Math.min(2, availableParallelism())));
-  let warmed = 0;
+  const rounds = Math.max(1, Math.floor(o.rounds ?? WARM_UP_ROUNDS));
   if (threads >= 2) {
     const code = await threadModule();
+    const dir = await mkdtemp(join(tmpdir(), 'quietpath-warm-up-'));
+    const path = join(dir, 'synthetic.wav');
     const fresh = Array.from({ length: threads }, () => spawn(code, true));
     let ok = false;
     try {
+      await writeFile(path, bytes);
       const groups = channelGroups(2, threads);
-      await Promise.all(fresh.map((t, i) => run(t, { source: { bytes }, options, channels: groups[i % groups.length]! })));
+      // A thread beyond the channels measures channel 0 alone, as it would a mono capture.
+      const tasks: ThreadTask[] = fresh.map((_, i) => ({ source: { path }, options, channels: groups[i] ?? [0] }));
+      let shares: ChannelShare[] = [];
+      for (let r = 0; r < rounds; r++) shares = await Promise.all(fresh.map((t, i) => run(t, tasks[i]!)));
+      shares = shares.slice(0, groups.length);
+      // The join runs here, in the calling thread: compile it too.
+      const info = parseWavHeader(bytes)!;
+      const result = resultFromShares({ engineVersion: ENGINE_VERSION, info, options, shares });
       ok = true;
-      warmed = fresh.length;
+      return { threads: fresh.length, ms: performance.now() - started, result };
     } finally {
+      await rm(dir, { recursive: true, force: true });
       if (ok) fresh.forEach(keep);
       else await Promise.all(fresh.map(stop));
     }
   }
+  // No threads (a server whose captures are in a bucket): the calling thread runs every analysis.
   async function* yielding(): AsyncGenerator<Uint8Array> {
     for (const chunk of bytesInChunks(bytes, 256 * 1024)) {
       await new Promise((resolve) => setImmediate(resolve));
@@ -346,5 +399,5 @@ export async function warmAnalysis(o: { seconds: number; threads?: number }): Pr
     }
   }
   const result = await analyzeWavStream(yielding(), options);
-  return { threads: warmed, ms: performance.now() - started, result };
+  return { threads: 0, ms: performance.now() - started, result };
 }

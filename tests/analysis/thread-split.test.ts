@@ -133,9 +133,14 @@ describe('kept threads', () => {
 
 describe('threads warmed up at start', () => {
   it('are kept, take a capture far below the break-even, give the single-thread result, and end when asked', async () => {
-    const warm = await warmAnalysis({ seconds: 0.5, threads: 2 });
+    const warm = await warmAnalysis({ seconds: 2, threads: 2, rounds: 2 });
     expect(warm.threads).toBe(2);
     expect(activeAnalysisThreads()).toBe(2);
+    // The warm-up capture runs the tone, noise and click-check paths: a −10 dBFS tone in channel
+    // 0 (AES17: a sine's RMS in dBFS is its level), and a click every 1.3 s in both channels
+    // (at 0.325 s and 1.625 s in 2 s), which the join in this thread reports.
+    expect(warm.result.channels[0]!.rmsDbfs).toBeCloseTo(-10, 2);
+    expect(warm.result.channels.map((c) => c.clicks.count)).toEqual([2, 2]);
     const ch = generateSine({ sampleRate: FS, frequencyHz: 997, levelDbfs: -10, seconds: 2, channels: 2 });
     ch.forEach((c, i) => mixInto(c, generateNoise({ sampleRate: FS, levelDbfs: -100, seconds: 2, seed: 21 + i })[0]!));
     addClick(ch[1]!, FS, { frame: 50_000, amplitude: 0.01 });
@@ -150,6 +155,16 @@ describe('threads warmed up at start', () => {
     expect(activeAnalysisThreads()).toBe(2);
     expect(result).toStrictEqual(analyzeWavBytes(bytes));
     expect(result.channels[1]!.clicks.count).toBe(1);
+    // A mono capture is one share: a caller that only waits hands it to one warm thread.
+    const mono = encodeWav([ch[1]!], FS, 24);
+    const monoPath = save('warm-mono.wav', mono);
+    const beforeMono = analysisThreadTasks();
+    expect(await analyzeFileInThreads(monoPath, {}, server)).toStrictEqual(analyzeWavBytes(mono));
+    expect(analysisThreadTasks() - beforeMono).toBe(1);
+    // A command-line run measures it itself, and starts no thread for it.
+    expect(await analyzeFileInThreads(monoPath, {}, { threads: 2, ignoreBreakEven: true })).toStrictEqual(analyzeWavBytes(mono));
+    expect(analysisThreadTasks() - beforeMono).toBe(1);
+    expect(activeAnalysisThreads()).toBe(2);
     // A caller that keeps no threads may use them, but they stay, warm.
     const borrowed = analysisThreadTasks();
     expect(await analyzeFileInThreads(path, {}, { threads: 2, shareCallingThread: false, ignoreBreakEven: true })).toStrictEqual(result);
