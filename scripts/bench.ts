@@ -20,7 +20,7 @@ import { availableParallelism, loadavg } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { encodeSamples, encodeWavHeader, seededGaussian, seededRandom } from '../analysis/index';
-import { analyzeFileInThreads, endIdleAnalysisThreads, warmAnalysis } from '../server/worker/channel-threads';
+import { analyzeFileInThreads, DEFAULT_WARM_UP_SECONDS, endIdleAnalysisThreads, warmAnalysis } from '../server/worker/channel-threads';
 
 const FS = 96_000;
 const DIR = join(import.meta.dirname, '..', 'bench-data');
@@ -88,13 +88,11 @@ interface ChildReport {
   json: string;
 }
 
-/** The server's default warm-up length (ANALYSIS_WARM_UP_SECONDS). */
-const WARM_UP_SECONDS = 10;
 
 async function child(path: string, threads: number, ignoreBreakEven: boolean, warm: boolean): Promise<void> {
   // Warm: the server's way (analyse-capture.ts) — threads kept, the calling thread only waits.
   const how = warm ? { threads, ignoreBreakEven, keepThreads: true, shareCallingThread: threads < 2 } : { threads, ignoreBreakEven };
-  if (warm) await warmAnalysis({ seconds: WARM_UP_SECONDS, threads: threads >= 2 ? threads : 0 });
+  if (warm) await warmAnalysis({ seconds: DEFAULT_WARM_UP_SECONDS, threads: threads >= 2 ? threads : 0 });
   const t0 = performance.now();
   const cpu0 = process.cpuUsage();
   // Cold: thread start-up (the bundle, the threads) is counted: a command-line run pays it every time.

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { checkStorageEnv, storageEnvShape } from './storage/storage-config';
+import { DEFAULT_WARM_UP_SECONDS } from './worker/channel-threads';
 
 const configSchema = z.object({
   DATABASE_URL: z.string().url(),
@@ -18,7 +19,7 @@ const configSchema = z.object({
   /** Run the capture-analysis worker inside this server process (off: upload and queue only). */
   WORKER: z.enum(['on', 'off']).default('on'),
   /** Seconds of synthetic capture the worker analyses at start-up to warm the engine (0: none); see analysis-worker.ts. */
-  ANALYSIS_WARM_UP_SECONDS: z.coerce.number().min(0).max(60).default(10),
+  ANALYSIS_WARM_UP_SECONDS: z.coerce.number().min(0).max(60).default(DEFAULT_WARM_UP_SECONDS),
   /** Largest capture file accepted, in megabytes (10^6 bytes). */
   UPLOAD_MAX_MB: z.coerce.number().positive().max(4096).default(200),
   /** An analysis running longer than this is taken as lost with its worker and run again. */

@@ -9,6 +9,7 @@ import { runMigrations } from './db/migrate';
 import { startAnalysisQueue } from './services/analysis-queue';
 import { checkStorageEnv, openFileStore, storageEnvShape, storageSettings } from './storage/storage-config';
 import { startAnalysisWorker } from './worker/analysis-worker';
+import { DEFAULT_WARM_UP_SECONDS } from './worker/channel-threads';
 
 const envSchema = z
   .object({
@@ -18,7 +19,7 @@ const envSchema = z
     ANALYSIS_EXPIRE_SECONDS: z.coerce.number().int().min(1).max(86_400).optional(),
     QUEUE_MAINTENANCE_SECONDS: z.coerce.number().int().min(1).max(3600).optional(),
     /** As for the server: seconds of synthetic capture analysed at start-up to warm the engine (0: none). */
-    ANALYSIS_WARM_UP_SECONDS: z.coerce.number().min(0).max(60).default(10),
+    ANALYSIS_WARM_UP_SECONDS: z.coerce.number().min(0).max(60).default(DEFAULT_WARM_UP_SECONDS),
   })
   .superRefine(checkStorageEnv);
 

@@ -33,14 +33,14 @@ import { readFileChunks } from './file-chunks';
  * Below this many samples (frames × channels) one thread is quicker than starting threads. One
  * thread measuring both channels of a stereo capture shares the reading and the word-wise
  * decoding between them, and pays the fixed costs once: V8 compiling the hot loops as they first
- * run, the FFT tables and first transforms, about 0.25–0.3 s in a fresh process. Every new thread
+ * run, the FFT tables and first transforms, about 0.2–0.3 s in a fresh process. Every new thread
  * pays those again and reads and decodes the whole file. `npm run bench -- --break-even`, 96 kHz
- * 24-bit stereo, fresh processes, load 1.1 on this 2-core machine, 2 threads against 1: 10 s 0.96×,
- * 60 s 1.18×, 3 min 1.20×, 5 min 1.03×; `npm run bench` gave 0.95× on 20 minutes. They meet
- * between 5 and 20 minutes; 8 minutes is taken. Threads already started and warm are another
- * matter (WARM_THREADS_PAY_ANY_LENGTH below).
+ * 24-bit stereo, fresh processes, load 1.7–2.0 on this 2-core machine, 2 threads against 1, three
+ * runs: 60 s 0.94–1.31×, 3 min 1.00–1.15×, 5 min 0.85–1.05×, 10 min 0.61–0.77×. They meet between
+ * 3 and 5 minutes; 4 minutes is taken. Threads already started and warm are another matter
+ * (WARM_THREADS_PAY_ANY_LENGTH below).
  */
-export const THREAD_BREAK_EVEN_SAMPLES = 2 * 96_000 * 480;
+export const THREAD_BREAK_EVEN_SAMPLES = 2 * 96_000 * 240;
 
 /*
  * WARM_THREADS_PAY_ANY_LENGTH. Threads a server warmed up at start (warmAnalysis) take captures of
@@ -311,6 +311,14 @@ export interface WarmUp {
 
 /** Passes each warmed thread makes over the synthetic capture (see warmAnalysis). */
 export const WARM_UP_ROUNDS = 3;
+
+/**
+ * The warm-up capture's length a server uses unless told (ANALYSIS_WARM_UP_SECONDS). 30 s rather
+ * than 10: over eight runs each, alternated, the first 5-minute capture after the warm-up took a
+ * median of 0.38 s against 0.39 s, and 0.33 s against 0.37 s in the best three. It costs about
+ * 1 s of both cores at start, off any request's path.
+ */
+export const DEFAULT_WARM_UP_SECONDS = 30;
 
 /**
  * A −10 dBFS tone in channel 0 over −100 dBFS noise in both, with a click every 1.3 s: the tone,

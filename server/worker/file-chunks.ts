@@ -32,7 +32,7 @@ export async function* readFileChunks(path: string, chunkBytes = 1 << 20): Async
  * decodes them, so they are still in its cache (an asynchronous read copies them on another
  * thread, often on the other core). Never on a thread that serves requests.
  */
-export function* readFileChunksBlocking(path: string, chunkBytes = 256 * 1024): Generator<Uint8Array> {
+export function* readFileChunksBlocking(path: string, chunkBytes = 128 * 1024): Generator<Uint8Array> {
   const fd = openSync(path, 'r');
   try {
     const buffer = new Uint8Array(chunkBytes);
