@@ -12,8 +12,11 @@ import { AnalyzeOptionsError, ShareAnalyzer } from './share-analyzer';
 
 export { AnalyzeOptionsError };
 
-/** 1.2: the spectrogram's transient frames sit on the click screen's sharpest 5 ms sub-block. */
-export const ENGINE_VERSION = '1.2.0';
+/**
+ * 1.2: the spectrogram's transient frames sit on the click screen's sharpest 5 ms sub-block.
+ * 1.3: real spectra by a half-size complex transform (figures differ from 1.2 only in rounding).
+ */
+export const ENGINE_VERSION = '1.3.0';
 
 export function parseAnalyzeOptions(options: unknown): AnalyzeOptions {
   const parsed = analyzeOptionsSchema.safeParse(options ?? {});

@@ -30,26 +30,51 @@ describe('fft.js with typed tables', () => {
   });
 });
 
-// RealFft shares its scratch arrays between all transforms of a size in a thread: no transform
-// keeps them past its own call, so power spectra interleaved between two accumulators must equal
-// those taken one accumulator at a time. The reference is fft.js's own instance (Parseval aside,
-// |X[k]|² is exactly re² + im² of its output).
-describe('RealFft with shared scratch', () => {
-  it('gives fft.js’s |X[k]|² whether accumulators of one size take turns or not', () => {
+// RealFft: real frames' power spectra by a half-size complex transform, with scratch arrays shared
+// by every transform of a size in a thread.
+describe('RealFft', () => {
+  it('gives the DFT’s |X[k]|²: fft.js’s real transform to rounding, and a cosine on a bin exactly', () => {
+    const gauss = seededGaussian(13);
+    for (const size of [8, 16, 64, 1024, 4096, 1 << 17]) {
+      const x = Float64Array.from({ length: size }, () => gauss());
+      const reference = new FFT(size);
+      const out = reference.createComplexArray() as number[];
+      reference.realTransform(out, x);
+      const acc = new Float64Array(size / 2 + 1);
+      new RealFft(size).accumulatePower(x, acc);
+      let peak = 0;
+      for (let k = 0; k <= size / 2; k++) peak = Math.max(peak, out[2 * k]! * out[2 * k]! + out[2 * k + 1]! * out[2 * k + 1]!);
+      for (let k = 0; k <= size / 2; k++) {
+        const p = out[2 * k]! * out[2 * k]! + out[2 * k + 1]! * out[2 * k + 1]!;
+        expect(Math.abs(acc[k]! - p) / peak, `size ${size}, bin ${k}`).toBeLessThan(1e-13);
+      }
+    }
+    // Analytic: A·cos(2πk₀n/N) has X[k₀] = A·N/2 and nothing elsewhere; a constant A has X[0] = A·N.
+    const size = 256;
+    const cosine = Float64Array.from({ length: size }, (_, n) => 0.5 * Math.cos((2 * Math.PI * 10 * n) / size));
+    const acc = new Float64Array(size / 2 + 1);
+    new RealFft(size).accumulatePower(cosine, acc);
+    expect(Math.sqrt(acc[10]!)).toBeCloseTo(0.5 * (size / 2), 9);
+    expect(Math.max(...acc.filter((_, k) => k !== 10))).toBeLessThan(1e-20);
+    const dc = new Float64Array(size / 2 + 1);
+    new RealFft(size).accumulatePower(new Float64Array(size).fill(0.25), dc);
+    expect(Math.sqrt(dc[0]!)).toBeCloseTo(0.25 * size, 9);
+    expect(() => new RealFft(4)).toThrow(RangeError);
+  });
+
+  it('gives the same spectra whether accumulators of one size take turns or not (shared scratch)', () => {
     const size = 1024;
     const gauss = seededGaussian(12);
     const frames = Array.from({ length: 4 }, () => Float64Array.from({ length: size }, () => gauss()));
     const window = Float64Array.from({ length: size }, (_, n) => Math.sin((Math.PI * n) / size));
-    const reference = (xs: Float64Array[]) => {
-      const fft = new FFT(size);
-      const out = new Float64Array(2 * size);
+    const alone = (xs: Float64Array[]) => {
       const acc = new Float64Array(size / 2 + 1);
-      for (const x of xs) {
-        fft.realTransform(out, Float64Array.from(x, (v, n) => v * window[n]!));
-        for (let k = 0; k <= size / 2; k++) acc[k]! += out[2 * k]! * out[2 * k]! + out[2 * k + 1]! * out[2 * k + 1]!;
-      }
+      const f = new RealFft(size);
+      for (const x of xs) f.accumulatePower(Float64Array.from(x, (v, n) => v * window[n]!), acc);
       return Array.from(acc);
     };
+    const refA = alone(frames.slice(0, 2));
+    const refB = alone(frames.slice(2));
     const a = new RealFft(size);
     const b = new RealFft(size);
     const accA = new Float64Array(size / 2 + 1);
@@ -58,8 +83,8 @@ describe('RealFft with shared scratch', () => {
       a.accumulateWindowedPower(frames[i]!, window, accA);
       b.accumulateWindowedPower(frames[i + 2]!, window, accB);
     }
-    expect(Array.from(accA)).toEqual(reference(frames.slice(0, 2)));
-    expect(Array.from(accB)).toEqual(reference(frames.slice(2)));
+    expect(Array.from(accA)).toEqual(refA);
+    expect(Array.from(accB)).toEqual(refB);
     expect(() => a.accumulateWindowedPower(frames[0]!.subarray(1), window, accA)).toThrow(RangeError);
   });
 });
