@@ -30,11 +30,9 @@ export async function* readFileChunks(path: string, chunkBytes = 1 << 20): Async
  * Reads a file in chunks with blocking reads into one reused buffer. For an analysis thread,
  * which has nothing else to do while it waits: the bytes are copied in by the thread that then
  * decodes them, so they are still in its cache (an asynchronous read copies them on another
- * thread, often on the other core). Never on a thread that serves requests. 128 kB pieces: on this
- * machine, reading a cached 173 MB file took 27–29 ms in pieces of 64–128 kB and 80–125 ms in
- * pieces of 192 kB or more (a loop of readSync alone, four runs each).
+ * thread, often on the other core). Never on a thread that serves requests.
  */
-export function* readFileChunksBlocking(path: string, chunkBytes = 128 * 1024): Generator<Uint8Array> {
+export function* readFileChunksBlocking(path: string, chunkBytes = 256 * 1024): Generator<Uint8Array> {
   const fd = openSync(path, 'r');
   try {
     const buffer = new Uint8Array(chunkBytes);
