@@ -18,10 +18,11 @@ import {
   type AnalysisResult,
   type AnalyzeOptions,
   type ChannelShare,
+  type WavInfo,
 } from '../../analysis/index';
 import { shareErrorFromData } from '../../analysis/share-errors';
 import { parseWavHeader } from '../../analysis/wav-header';
-import { bytesInChunks, measureShare, type ThreadReply, type ThreadTask } from './channel-thread';
+import { measureShare, type ThreadReply, type ThreadTask } from './channel-thread';
 import { readFileChunks } from './file-chunks';
 
 // A capture's analysis split across worker threads by channel (analysis/channel-split.ts says why
@@ -321,35 +322,37 @@ export const WARM_UP_ROUNDS = 3;
 export const DEFAULT_WARM_UP_SECONDS = 30;
 
 /**
- * A −10 dBFS tone in channel 0 over −100 dBFS noise in both, with a click every 1.3 s: the tone,
- * noise, crosstalk and click-check paths all run. Made a second at a time, straight into 24-bit
- * bytes, so the warm-up holds the file and not a float copy of every sample.
+ * Writes the warm-up capture to `path`: a −10 dBFS tone in channel 0 over −100 dBFS noise in
+ * both, with a click every 1.3 s, so the tone, noise, crosstalk and click-check paths all run.
+ * Made and written a second at a time: the warm-up never holds the whole capture.
  */
-function warmUpCapture(seconds: number): Uint8Array {
+async function writeWarmUpCapture(path: string, seconds: number): Promise<WavInfo> {
   const sampleRate = 96_000;
   const frames = Math.round(seconds * sampleRate);
   const header = encodeWavHeader({ sampleRate, channels: 2, format: 24, frames });
-  const bytes = new Uint8Array(header.length + frames * 6);
-  bytes.set(header);
   const gauss = seededGaussian(5);
   const tone = 10 ** (-10 / 20);
   const noise = 10 ** (-100 / 20);
   const w = (2 * Math.PI * 997) / sampleRate;
   const clickEvery = Math.round(1.3 * sampleRate);
   const block = [new Float64Array(sampleRate), new Float64Array(sampleRate)];
-  for (let start = 0, at = header.length; start < frames; start += sampleRate) {
-    const n = Math.min(sampleRate, frames - start);
-    for (let i = 0; i < n; i++) {
-      const f = start + i;
-      const click = f % clickEvery === clickEvery >> 2 ? 0.02 : 0;
-      block[0]![i] = tone * Math.sin(w * f) + noise * gauss() + click;
-      block[1]![i] = noise * gauss() + click;
+  const fh = await open(path, 'w');
+  try {
+    await fh.write(header);
+    for (let start = 0; start < frames; start += sampleRate) {
+      const n = Math.min(sampleRate, frames - start);
+      for (let i = 0; i < n; i++) {
+        const f = start + i;
+        const click = f % clickEvery === clickEvery >> 2 ? 0.02 : 0;
+        block[0]![i] = tone * Math.sin(w * f) + noise * gauss() + click;
+        block[1]![i] = noise * gauss() + click;
+      }
+      await fh.write(encodeSamples(block, 24, 0, n));
     }
-    const encoded = encodeSamples(block, 24, 0, n);
-    bytes.set(encoded, at);
-    at += encoded.length;
+  } finally {
+    await fh.close();
   }
-  return bytes;
+  return parseWavHeader(header)!;
 }
 
 /**
@@ -358,7 +361,7 @@ function warmUpCapture(seconds: number): Uint8Array {
  * capture of `seconds` `rounds` times, and joins their shares here, so the engine's hot loops and
  * the join are compiled before the first real capture; the calling thread then only waits for
  * threads (analyzeFileInThreads, shareCallingThread false). Without, the calling thread measures
- * the capture once, yielding between chunks so a server's requests go on meanwhile.
+ * the capture once, reading it asynchronously so a server's requests go on between its reads.
  *
  * Why this much (`npm run bench`, warm rows, 5-minute capture, this 2-core machine): V8 finishes
  * optimising on background threads, and two busy analysis threads leave it little room, so one
@@ -370,42 +373,37 @@ function warmUpCapture(seconds: number): Uint8Array {
  */
 export async function warmAnalysis(o: { seconds: number; threads?: number; rounds?: number }): Promise<WarmUp> {
   const started = performance.now();
-  const bytes = warmUpCapture(o.seconds);
   const options = parseAnalyzeOptions({ stimulus: 'tone' });
   const threads = Math.max(0, Math.floor(o.threads ?? Math.min(2, availableParallelism())));
   const rounds = Math.max(1, Math.floor(o.rounds ?? WARM_UP_ROUNDS));
-  if (threads >= 2) {
-    const code = await threadModule();
-    const dir = await mkdtemp(join(tmpdir(), 'quietpath-warm-up-'));
+  const dir = await mkdtemp(join(tmpdir(), 'quietpath-warm-up-'));
+  try {
     const path = join(dir, 'synthetic.wav');
+    const info = await writeWarmUpCapture(path, o.seconds);
+    if (threads < 2) {
+      // No threads (a server whose captures are in a bucket): the calling thread runs every
+      // analysis, so it measures the capture itself, its reads letting requests in between.
+      const result = await analyzeWavStream(readFileChunks(path, 256 * 1024), options);
+      return { threads: 0, ms: performance.now() - started, result };
+    }
+    const code = await threadModule();
     const fresh = Array.from({ length: threads }, () => spawn(code, true));
     let ok = false;
     try {
-      await writeFile(path, bytes);
       const groups = channelGroups(2, threads);
       // A thread beyond the channels measures channel 0 alone, as it would a mono capture.
       const tasks: ThreadTask[] = fresh.map((_, i) => ({ source: { path }, options, channels: groups[i] ?? [0] }));
       let shares: ChannelShare[] = [];
       for (let r = 0; r < rounds; r++) shares = await Promise.all(fresh.map((t, i) => run(t, tasks[i]!)));
-      shares = shares.slice(0, groups.length);
       // The join runs here, in the calling thread: compile it too.
-      const info = parseWavHeader(bytes)!;
-      const result = resultFromShares({ engineVersion: ENGINE_VERSION, info, options, shares });
+      const result = resultFromShares({ engineVersion: ENGINE_VERSION, info, options, shares: shares.slice(0, groups.length) });
       ok = true;
       return { threads: fresh.length, ms: performance.now() - started, result };
     } finally {
-      await rm(dir, { recursive: true, force: true });
       if (ok) fresh.forEach(keep);
       else await Promise.all(fresh.map(stop));
     }
+  } finally {
+    await rm(dir, { recursive: true, force: true });
   }
-  // No threads (a server whose captures are in a bucket): the calling thread runs every analysis.
-  async function* yielding(): AsyncGenerator<Uint8Array> {
-    for (const chunk of bytesInChunks(bytes, 256 * 1024)) {
-      await new Promise((resolve) => setImmediate(resolve));
-      yield chunk;
-    }
-  }
-  const result = await analyzeWavStream(yielding(), options);
-  return { threads: 0, ms: performance.now() - started, result };
 }
