@@ -124,9 +124,10 @@ function runChild(path: string, threads: number, ignoreBreakEven = false, warm =
   return { ...(JSON.parse(r.stdout) as ChildReport), wallMs };
 }
 
-/** Best-of-ROUNDS runs with the given threads: the fastest run, the lowest CPU, the highest RSS. */
-function bestOf(path: string, threads: number, ignoreBreakEven = false, warm = false) {
-  const runs = Array.from({ length: ROUNDS }, () => runChild(path, threads, ignoreBreakEven, warm));
+type ChildRun = ChildReport & { wallMs: number };
+
+/** The fastest of a row's runs, the lowest CPU, the highest RSS, and whether every run gave the same result. */
+function summarise(runs: ChildRun[]) {
   const best = runs.reduce((b, x) => (x.analysisMs < b.analysisMs ? x : b));
   return {
     best,
@@ -135,6 +136,11 @@ function bestOf(path: string, threads: number, ignoreBreakEven = false, warm = f
     rssMb: Math.max(...runs.map((x) => x.maxRssMb)),
     same: runs.every((x) => x.json === runs[0]!.json),
   };
+}
+
+/** Best-of-ROUNDS runs with the given threads. */
+function bestOf(path: string, threads: number, ignoreBreakEven = false, warm = false) {
+  return summarise(Array.from({ length: ROUNDS }, () => runChild(path, threads, ignoreBreakEven, warm)));
 }
 
 /** Where threads start to pay: 1 thread against all cores on captures of a few lengths. */
@@ -172,18 +178,26 @@ async function main(): Promise<number> {
     }
     warmCache(path);
     const mb = statSync(path).size / 1e6;
-    // Best of three: the machine may be shared, and the best run is the least disturbed one.
-    const sox = Array.from({ length: ROUNDS }, () => timeSox(path));
-    const soxMs = Math.min(...sox.map((x) => x.wallMs));
-    const soxCpuMs = Math.min(...sox.map((x) => x.cpuMs));
-    const rows = [
-      { label: 'cold, 1 thread ', run: bestOf(path, 1) },
+    // Best of three: the machine may be shared, and the best run is the least disturbed one. The
+    // rounds interleave sox and every row, so a busy minute falls on both sides of the ratio
+    // rather than on sox's runs alone or on one row's.
+    const ways = [
+      { label: 'cold, 1 thread ', threads: 1, forced: false, warm: false },
       // Threads forced on, so the row is what it says even below the break-even (where
       // `npm run analyze` keeps to one thread); warm threads take any length anyway.
-      { label: `cold, ${CORES} threads`, run: bestOf(path, CORES, true) },
-      { label: 'warm, 1 thread ', run: bestOf(path, 1, false, true) },
-      { label: `warm, ${CORES} threads`, run: bestOf(path, CORES, false, true) },
+      { label: `cold, ${CORES} threads`, threads: CORES, forced: true, warm: false },
+      { label: 'warm, 1 thread ', threads: 1, forced: false, warm: true },
+      { label: `warm, ${CORES} threads`, threads: CORES, forced: false, warm: true },
     ];
+    const sox: { wallMs: number; cpuMs: number }[] = [];
+    const runs: ChildRun[][] = ways.map(() => []);
+    for (let round = 0; round < ROUNDS; round++) {
+      sox.push(timeSox(path));
+      ways.forEach((w, i) => runs[i]!.push(runChild(path, w.threads, w.forced, w.warm)));
+    }
+    const soxMs = Math.min(...sox.map((x) => x.wallMs));
+    const soxCpuMs = Math.min(...sox.map((x) => x.cpuMs));
+    const rows = ways.map((w, i) => ({ label: w.label, run: summarise(runs[i]!) }));
     const expectedClicks = minutes * CLICKS_PER_MINUTE;
     const fast = (r: (typeof rows)[number]) => r.run.best.analysisMs / soxMs <= TARGET_RATIO;
     const allCores = rows.filter((r) => r.label.includes(`${CORES} threads`));
