@@ -101,9 +101,9 @@ export class SpectrogramAccumulator {
   private readonly steady: FrameCollector;
   private readonly steadyColumn: Int32Array;
   private steadyDone = 0;
-  /** Per column, the middle quarter [from, to) of its steady frame, and the sharpest sub-block touching it (−1 until seen). */
   /** First frame of each column, and the end: see edge(). */
   private readonly edges: Float64Array;
+  /** Per column, the middle quarter [from, to) of its steady frame, and the sharpest sub-block touching it (−1 until seen). */
   private readonly middleFrom: Float64Array;
   private readonly middleTo: Float64Array;
   private readonly middleSharpness: Float64Array;

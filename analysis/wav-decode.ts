@@ -302,9 +302,9 @@ export class FrameDecoder {
     this.sink(this.block, this.blockStart, this.blockFill);
     this.blockStart += this.blockFill;
     this.blockFill = 0;
-    // In place: Array.prototype.map sometimes hands back a holey array (when its fast path is
-    // interrupted), and that one change of array shape threw the optimised decoder back to slower
-    // code in the middle of long captures.
+    // In place: with Array.prototype.map here, V8 was seen handing back a holey array part-way
+    // through a long capture, and that one change of array shape threw the optimised decoder back
+    // to slower code (--trace-deopt: "wrong map").
     const h = this.histories;
     if (h) for (let k = 0; k < h.length; k++) this.block[k] = h[k]!.blockAt(this.blockStart, this.blockFrames);
   }

@@ -88,7 +88,6 @@ interface ChildReport {
   json: string;
 }
 
-
 async function child(path: string, threads: number, ignoreBreakEven: boolean, warm: boolean): Promise<void> {
   // Warm: the server's way (analyse-capture.ts) — threads kept, the calling thread only waits.
   const how = warm ? { threads, ignoreBreakEven, keepThreads: true, shareCallingThread: threads < 2 } : { threads, ignoreBreakEven };

@@ -369,7 +369,7 @@ async function writeWarmUpCapture(path: string, seconds: number): Promise<WavInf
  * the warm-up capture from a file, with the reads a stored capture gets, because V8 compiles for
  * the shapes it has seen. With three rounds, and two causes of mid-capture de-optimisation
  * removed from the engine (see SpectrogramAccumulator's column edges and FrameDecoder.flush), the
- * first capture came within about 1.2× of later ones. Two idle warm threads hold about 100 MB.
+ * first capture came within about 1.2–1.3× of later ones. Two idle warm threads hold about 100 MB.
  */
 export async function warmAnalysis(o: { seconds: number; threads?: number; rounds?: number }): Promise<WarmUp> {
   const started = performance.now();
