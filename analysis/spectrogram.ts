@@ -107,7 +107,6 @@ export class SpectrogramAccumulator {
   private readonly middleFrom: Float64Array;
   private readonly middleTo: Float64Array;
   private readonly middleSharpness: Float64Array;
-  private readonly scratch: Float64Array;
   private readonly power: Float64Array;
   private readonly histories: readonly SampleHistory[];
   private readonly own: OwnScreen | null;
@@ -130,7 +129,6 @@ export class SpectrogramAccumulator {
     this.fft = new RealFft(n);
     this.window = makeWindow(WINDOW, n);
     this.windowSum = this.window.reduce((a, b) => a + b, 0);
-    this.scratch = new Float64Array(n);
     this.power = new Float64Array(n / 2 + 1);
     this.cells = Array.from({ length: o.channels }, () => new Float64Array(this.columns * this.rows));
     if (o.histories) {
@@ -301,12 +299,10 @@ export class SpectrogramAccumulator {
   }
 
   private addFrame(column: number, frame: readonly Float64Array[]): void {
-    const { scratch: s, window: w, power, rows, rowLo, rowHi } = this;
+    const { window: w, power, rows, rowLo, rowHi } = this;
     for (let c = 0; c < this.channels; c++) {
-      const x = frame[c]!;
-      for (let i = 0; i < s.length; i++) s[i] = x[i]! * w[i]!;
       power.fill(0);
-      this.fft.accumulatePower(s, power);
+      this.fft.accumulateWindowedPower(frame[c]!, w, power);
       const cells = this.cells[c]!;
       const base = column * rows;
       for (let f = 0; f < rows; f++) {

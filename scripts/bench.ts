@@ -20,7 +20,8 @@ import { availableParallelism, loadavg } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { encodeSamples, encodeWavHeader, seededGaussian, seededRandom } from '../analysis/index';
-import { analyzeFileInThreads, DEFAULT_WARM_UP_SECONDS, endIdleAnalysisThreads, warmAnalysis } from '../server/worker/channel-threads';
+import { analyzeFileInThreads, endIdleAnalysisThreads, warmAnalysis } from '../server/worker/channel-threads';
+import { DEFAULT_WARM_UP_SECONDS } from '../server/worker/warm-up-length';
 
 const FS = 96_000;
 const DIR = join(import.meta.dirname, '..', 'bench-data');

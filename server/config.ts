@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { checkStorageEnv, storageEnvShape } from './storage/storage-config';
-import { DEFAULT_WARM_UP_SECONDS } from './worker/channel-threads';
+import { DEFAULT_WARM_UP_SECONDS } from './worker/warm-up-length';
 
 const configSchema = z.object({
   DATABASE_URL: z.string().url(),

@@ -9,7 +9,7 @@ import { runMigrations } from './db/migrate';
 import { startAnalysisQueue } from './services/analysis-queue';
 import { checkStorageEnv, openFileStore, storageEnvShape, storageSettings } from './storage/storage-config';
 import { startAnalysisWorker } from './worker/analysis-worker';
-import { DEFAULT_WARM_UP_SECONDS } from './worker/channel-threads';
+import { DEFAULT_WARM_UP_SECONDS } from './worker/warm-up-length';
 
 const envSchema = z
   .object({

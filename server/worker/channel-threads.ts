@@ -314,14 +314,6 @@ export interface WarmUp {
 export const WARM_UP_ROUNDS = 3;
 
 /**
- * The warm-up capture's length a server uses unless told (ANALYSIS_WARM_UP_SECONDS). 30 s rather
- * than 10: over eight runs each, alternated, the first 5-minute capture after the warm-up took a
- * median of 0.38 s against 0.39 s, and 0.33 s against 0.37 s in the best three. It costs about
- * 1 s of both cores at start, off any request's path.
- */
-export const DEFAULT_WARM_UP_SECONDS = 30;
-
-/**
  * Writes the warm-up capture to `path`: a −10 dBFS tone in channel 0 over −100 dBFS noise in
  * both, with a click every 1.3 s, so the tone, noise, crosstalk and click-check paths all run.
  * Made and written a second at a time: the warm-up never holds the whole capture.
